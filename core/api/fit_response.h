@@ -1,0 +1,17 @@
+// The fit response document: science results -> JSON (DESIGN.md's fixed points, and more).
+//
+// Units at this edge: temperature K; peak frequencies Hz and peak wavelengths nm; bolometric flux
+// W m^-2; angular radius mas; radius m and nominal solar radii, luminosity W and nominal solar
+// luminosities (IAU 2015 Resolution B3: R_sun = 6.957e8 m, L_sun = 3.828e26 W).
+#pragma once
+
+#include <nlohmann/json_fwd.hpp>
+
+#include "api/fit_request.h"
+
+namespace planckton::api {
+
+nlohmann::json make_fit_response(const FitRequest& request, const MeasuredSpectrum& spectrum,
+                                 const PlanckFitResult& fit, const DerivedQuantities& derived);
+
+}  // namespace planckton::api

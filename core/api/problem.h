@@ -1,0 +1,49 @@
+// Problem documents (RFC 9457, "Problem Details for HTTP APIs"): how every bad input is answered.
+//
+// The members are RFC 9457's type, title, status and detail, plus the extension members planckton
+// adds: `pointer` (RFC 6901 JSON pointer to the offending value of the request document), `line`
+// (for tables: the 1-based line of the offending value) and `accepted` (what would have been
+// accepted, e.g. the unit spellings).
+#pragma once
+
+#include <cstddef>
+#include <exception>
+#include <optional>
+#include <string>
+#include <vector>
+
+#include <nlohmann/json_fwd.hpp>
+
+namespace planckton::api {
+
+struct Problem {
+  std::string type;   // a URI reference naming the kind of problem, e.g. "/problems/invalid-value"
+  std::string title;  // short, the same for every problem of this type
+  int status = 422;   // the HTTP status the service answers with
+  std::string detail;
+  std::string pointer;
+  std::optional<std::size_t> line;
+  std::vector<std::string> accepted;
+
+  nlohmann::json to_json() const;
+  std::string one_line() const;  // for stderr
+};
+
+class ProblemError : public std::exception {
+ public:
+  explicit ProblemError(Problem problem) : problem_(std::move(problem)) {}
+  const Problem& problem() const { return problem_; }
+  Problem& problem() { return problem_; }
+  const char* what() const noexcept override { return problem_.detail.c_str(); }
+
+ private:
+  Problem problem_;
+};
+
+// The kinds of problem planckton reports.
+Problem malformed_document(std::string detail, std::optional<std::size_t> line = std::nullopt);
+Problem invalid_value(std::string pointer, std::string detail, std::vector<std::string> accepted = {});
+Problem unsupported_feature(std::string pointer, std::string detail, std::vector<std::string> accepted = {});
+Problem fit_failed(std::string detail);
+
+}  // namespace planckton::api

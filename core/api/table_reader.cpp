@@ -1,0 +1,148 @@
+#include "api/table_reader.h"
+
+#include <algorithm>
+#include <cctype>
+#include <charconv>
+#include <nlohmann/json.hpp>
+#include <optional>
+
+#include "api/problem.h"
+
+namespace planckton::api {
+
+namespace {
+
+std::string_view trim(std::string_view s) {
+  while (!s.empty() && std::isspace(static_cast<unsigned char>(s.front()))) s.remove_prefix(1);
+  while (!s.empty() && std::isspace(static_cast<unsigned char>(s.back()))) s.remove_suffix(1);
+  return s;
+}
+
+std::vector<std::string_view> split_fields(std::string_view row) {
+  std::vector<std::string_view> fields;
+  const bool delimited = row.find_first_of(",;\t") != std::string_view::npos;
+  if (delimited) {
+    std::size_t start = 0;
+    while (true) {
+      const std::size_t end = row.find_first_of(",;\t", start);
+      fields.push_back(trim(row.substr(start, end == std::string_view::npos ? std::string_view::npos : end - start)));
+      if (end == std::string_view::npos) break;
+      start = end + 1;
+    }
+    return fields;
+  }
+  std::size_t i = 0;
+  while (i < row.size()) {
+    while (i < row.size() && std::isspace(static_cast<unsigned char>(row[i]))) ++i;
+    const std::size_t start = i;
+    while (i < row.size() && !std::isspace(static_cast<unsigned char>(row[i]))) ++i;
+    if (i > start) fields.push_back(row.substr(start, i - start));
+  }
+  return fields;
+}
+
+std::optional<double> parse_number(std::string_view field) {
+  if (!field.empty() && field.front() == '+') field.remove_prefix(1);
+  double value = 0.0;
+  const auto [end, error] = std::from_chars(field.data(), field.data() + field.size(), value);
+  if (error != std::errc() || end != field.data() + field.size() || field.empty()) return std::nullopt;
+  return value;
+}
+
+std::string quoted(std::string_view field) {
+  constexpr std::size_t kShown = 40;
+  std::string shown(field.substr(0, kShown));
+  for (char& c : shown) {
+    if (!std::isprint(static_cast<unsigned char>(c))) c = '?';
+  }
+  return "'" + shown + (field.size() > kShown ? "...'" : "'");
+}
+
+std::optional<std::size_t> find_column(const Table& table, const std::string& wanted, const char* role) {
+  if (wanted.empty()) return std::nullopt;
+  if (std::all_of(wanted.begin(), wanted.end(), [](char c) { return std::isdigit(static_cast<unsigned char>(c)); })) {
+    const std::size_t index = std::stoul(wanted);
+    if (index < 1 || index > table.columns.size()) {
+      throw ProblemError(invalid_value("", std::string(role) + " column " + wanted + " does not exist; the table has " +
+                                               std::to_string(table.columns.size()) + " columns"));
+    }
+    return index - 1;
+  }
+  const auto it = std::find(table.header.begin(), table.header.end(), wanted);
+  if (it == table.header.end()) {
+    throw ProblemError(invalid_value("", std::string(role) + " column '" + wanted + "' is not in the header", table.header));
+  }
+  return static_cast<std::size_t>(it - table.header.begin());
+}
+
+std::optional<std::size_t> find_named(const Table& table, std::initializer_list<const char*> names) {
+  for (const char* name : names) {
+    const auto it = std::find(table.header.begin(), table.header.end(), name);
+    if (it != table.header.end()) return static_cast<std::size_t>(it - table.header.begin());
+  }
+  return std::nullopt;
+}
+
+nlohmann::json column_json(const Table& table, std::size_t column) { return nlohmann::json(table.columns[column]); }
+
+}  // namespace
+
+Table read_table(std::string_view text) {
+  Table table;
+  std::size_t line_number = 0;
+  std::size_t position = 0;
+  std::size_t width = 0;
+  while (position <= text.size()) {
+    const std::size_t end = std::min(text.find('\n', position), text.size());
+    std::string_view line = text.substr(position, end - position);
+    position = end + 1;
+    ++line_number;
+    if (const std::size_t hash = line.find('#'); hash != std::string_view::npos) line = line.substr(0, hash);
+    line = trim(line);
+    if (line.empty()) continue;
+    const std::vector<std::string_view> fields = split_fields(line);
+    if (width == 0) {
+      width = fields.size();
+      table.columns.resize(width);
+      const bool is_header = std::any_of(fields.begin(), fields.end(),
+                                         [](std::string_view f) { return !parse_number(f).has_value(); });
+      if (is_header) {
+        for (std::string_view f : fields) table.header.emplace_back(f);
+        continue;
+      }
+    }
+    if (fields.size() != width) {
+      throw ProblemError(malformed_document("the row has " + std::to_string(fields.size()) + " fields, expected " +
+                                                std::to_string(width), line_number));
+    }
+    for (std::size_t c = 0; c < width; ++c) {
+      const auto value = parse_number(fields[c]);
+      if (!value) {
+        throw ProblemError(malformed_document("field " + std::to_string(c + 1) + " " + quoted(fields[c]) +
+                                                  " is not a number", line_number));
+      }
+      table.columns[c].push_back(*value);
+    }
+    table.line_of_row.push_back(line_number);
+  }
+  if (table.line_of_row.empty()) throw ProblemError(malformed_document("the table has no data rows"));
+  if (width < 2) throw ProblemError(malformed_document("the table needs at least two columns (x and y)"));
+  return table;
+}
+
+nlohmann::json table_to_request(const Table& table, const TableRequestOptions& options) {
+  const std::size_t x = find_column(table, options.x_column, "x").value_or(find_named(table, {"x"}).value_or(0));
+  const std::size_t y = find_column(table, options.y_column, "y").value_or(find_named(table, {"y"}).value_or(1));
+  std::optional<std::size_t> error;
+  if (options.error_column != "none") {
+    error = find_column(table, options.error_column, "y_error");
+    if (!error) error = find_named(table, {"y_error", "error", "err", "sigma"});
+    if (!error && table.columns.size() >= 3 && x != 2 && y != 2) error = 2;
+  }
+  nlohmann::json spectrum = {{"x", column_json(table, x)}, {"x_unit", options.x_unit},
+                             {"y", column_json(table, y)}, {"y_unit", options.y_unit}};
+  if (error) spectrum["y_error"] = column_json(table, *error);
+  return {{"spectrum", spectrum}};
+}
+
+}  // namespace planckton::api

@@ -1,0 +1,99 @@
+// Fitting a Planck curve to a measured spectrum: temperature and scale, with covariance.
+//
+// Model. y(nu) = scale * B(nu; T), with B in the convention of the data (per unit frequency,
+// wavelength, wavenumber or photon energy; energy or photons; see planck.h). For flux densities the
+// scale is the solid angle Omega the source subtends (sr; Omega = pi theta^2 for a uniform disc of
+// angular radius theta); for intensities it is the emissivity (a grey-body factor); for relative
+// spectra it is arbitrary.
+//
+// Method.
+//  1. Start: a coarse grid over ln T (ratio 1.5 between nodes) on an evenly spaced subsample of the
+//     points, with the best scale at each node in closed form (linear least squares), refined by a
+//     parabola through the best three nodes. The grid spans the whole range the data can constrain
+//     (x = h nu / k T from 1e-3 at the highest frequency to 300 at the lowest) within the temperature
+//     bounds, so the local solve cannot start in the wrong basin.
+//  2. Local solve: Levenberg-Marquardt (K. Levenberg 1944; D. W. Marquardt, SIAM J. Appl. Math. 11,
+//     431 (1963)) in Ceres Solver over (ln T, ln scale), so both stay positive, with an analytic
+//     Jacobian and ln T bounded. Residuals are (y - model) / sigma; with a robust loss (Huber 1964, or
+//     Cauchy) each point is its own residual block so the loss acts per point.
+//  3. Covariance: (J^T J)^-1 at the solution, computed by ceres::Covariance. Without y_error every
+//     point has equal weight and the covariance is multiplied by chi^2 / dof, the residual variance
+//     (as scipy.optimize.curve_fit does with absolute_sigma=False), and a warning says so.
+//  4. Goodness of fit: chi^2, degrees of freedom n - 2, and the p-value Q(dof/2, chi^2/2) (the
+//     upper regularised incomplete gamma function; Boost.Math).
+//
+// Example:
+//   planckton::MeasuredSpectrum spectrum = planckton::prepare_spectrum(input);
+//   planckton::PlanckFitOptions options;
+//   options.loss = planckton::RobustLoss::kCauchy;
+//   planckton::PlanckFitResult fit = planckton::fit_planck(spectrum, options);
+//   if (fit.converged) std::printf("T = %.1f K\n", fit.temperature_k);
+#pragma once
+
+#include <array>
+#include <cstddef>
+#include <optional>
+#include <string>
+#include <vector>
+
+#include "science/spectrum.h"
+
+namespace planckton {
+
+enum class RobustLoss { kNone, kHuber, kCauchy };
+
+struct PlanckFitOptions {
+  // Temperature bounds, K. The defaults cover everything from cold dust to hot plasmas.
+  double min_temperature_k = 0.1;
+  double max_temperature_k = 1e9;
+  // Robust loss for outliers and emission lines; scale in units of the point's sigma (or, without
+  // y_error, of the scatter estimated robustly from the residuals at the start).
+  RobustLoss loss = RobustLoss::kNone;
+  double loss_scale = 1.0;
+  // Solver budget. A fit that runs out of either still returns its best estimate, flagged.
+  int max_iterations = 200;
+  double time_budget_seconds = 10.0;
+};
+
+struct FitWarning {
+  std::string code;     // stable, machine-readable
+  std::string message;  // for people
+};
+
+struct PlanckFitResult {
+  // How the solve went.
+  bool converged = false;
+  std::string termination;     // "converged", "iteration_limit", "time_limit" or "failed"
+  std::string solver_message;  // Ceres' own words
+  int iterations = 0;
+  double start_temperature_k = 0.0;
+
+  // The estimate and its covariance in (ln T, ln scale), row-major 2x2. When the errors were
+  // estimated from the scatter, the covariance already includes that factor.
+  double temperature_k = 0.0;
+  double scale = 0.0;
+  std::array<double, 4> log_covariance{};
+  bool covariance_available = false;
+  bool temperature_at_bound = false;
+
+  // Goodness of fit. chi_square and p_value are absent when the errors were estimated.
+  std::size_t points_used = 0;
+  int degrees_of_freedom = 0;
+  std::optional<double> chi_square;
+  std::optional<double> p_value;
+  bool errors_estimated = false;
+  double residual_scatter_si = 0.0;  // estimated one-sigma scatter of y, when errors_estimated
+  double robust_cost = 0.0;          // sum of the robust loss over the points, when a loss is used
+
+  std::vector<FitWarning> warnings;
+
+  double temperature_log_sigma() const;
+  double scale_log_sigma() const;
+  double log_correlation() const;
+};
+
+// Throws InputError when the spectrum has fewer points than free parameters or the options are
+// inconsistent (field names: "options.temperature_bounds", "options.loss").
+PlanckFitResult fit_planck(const MeasuredSpectrum& spectrum, const PlanckFitOptions& options);
+
+}  // namespace planckton
