@@ -1,0 +1,447 @@
+#!/usr/bin/python3
+"""Generate the synthetic demo spectra in this directory, plus truth.json.
+
+Everything here is invented: the "Tallow Moor Observatory" survey, its
+survey stars TMS-xxxx and the "Cinder Street photometry lab" bench lamp QL-3
+do not exist, and every number is computed below from a Planck curve plus
+seeded pseudo-random noise.
+
+Usage (from the repository root):
+
+    /usr/bin/python3 sample-spectra/make_samples.py           # write the files
+    /usr/bin/python3 sample-spectra/make_samples.py --check   # write, then fit
+
+The default run needs numpy only and is deterministic: running it twice gives
+byte-identical files (every number is written with a fixed printf format).
+--check additionally needs scipy; it re-reads the written CSV and JSON files,
+fits a Planck curve to each and compares the fit with truth.json.
+"""
+
+import json
+import math
+import os
+import sys
+
+import numpy as np
+
+# Physical constants: CODATA 2018 exact values (SI redefinition of 2019).
+H = 6.62607015e-34   # Planck constant, J s
+C = 299792458.0      # speed of light in vacuum, m/s
+K = 1.380649e-23     # Boltzmann constant, J/K
+
+# Astronomical length units, used only to invent radii and distances:
+R_SUN = 6.957e8                       # nominal solar radius, m (IAU 2015 Resolution B3)
+AU = 149597870700.0                   # astronomical unit, m (IAU 2012 Resolution B2)
+PARSEC = AU * 648000.0 / math.pi      # parsec, m (IAU 2015 Resolution B2)
+
+# Unit conversions to SI spectral densities.
+ERG_S_CM2_ANGSTROM = 1e7   # 1 erg/s/cm2/Angstrom = 1e-7 W / 1e-4 m2 / 1e-10 m = 1e7 W/m2/m
+W_M2_UM = 1e6              # 1 W/m2/um = 1e6 W/m2/m
+MJY = 1e-29                # 1 mJy = 1e-29 W/m2/Hz
+W_M2_SR_NM = 1e9           # 1 W/m2/sr/nm = 1e9 W/m2/sr/m
+
+BASE_SEED = 4700           # sample i uses numpy.random.default_rng(BASE_SEED + i)
+HERE = os.path.dirname(os.path.abspath(__file__))
+
+
+def planck_lambda(lam_m, t):
+    """B_lambda(T) = 2hc^2/lambda^5 / (exp(hc/(lambda k T)) - 1), in W/m2/sr/m."""
+    return 2.0 * H * C ** 2 / lam_m ** 5 / np.expm1(H * C / (lam_m * K * t))
+
+
+def planck_nu(nu_hz, t):
+    """B_nu(T) = 2 h nu^3/c^2 / (exp(h nu/(k T)) - 1), in W/m2/sr/Hz."""
+    return 2.0 * H * nu_hz ** 3 / C ** 2 / np.expm1(H * nu_hz / (K * t))
+
+
+def absorption(lam_nm, lines):
+    """Product of Gaussian absorption lines, 1 - depth*exp(-0.5((lambda-l0)/w)^2)."""
+    f = np.ones_like(lam_nm)
+    for ln in lines:
+        f *= 1.0 - ln["depth"] * np.exp(-0.5 * ((lam_nm - ln["center_nm"]) / ln["width_nm"]) ** 2)
+    return f
+
+
+def solid_angle(radius_m, distance_m):
+    """Solid angle of a uniform disc of radius R at distance d, Omega = pi (R/d)^2."""
+    return math.pi * (radius_m / distance_m) ** 2
+
+
+# ---------------------------------------------------------------------------
+# Output helpers: fixed-precision text so that reruns are byte-identical.
+
+class Raw(str):
+    """A pre-formatted JSON number."""
+
+
+def fmt_array(values, fmt):
+    return [Raw(fmt % v) for v in values]
+
+
+def dump_json(obj, indent=0, per_line=8):
+    pad = "  " * indent
+    pad1 = "  " * (indent + 1)
+    if isinstance(obj, Raw):
+        return str(obj)
+    if isinstance(obj, dict):
+        if not obj:
+            return "{}"
+        items = ["%s%s: %s" % (pad1, json.dumps(k), dump_json(v, indent + 1, per_line))
+                 for k, v in obj.items()]
+        return "{\n" + ",\n".join(items) + "\n" + pad + "}"
+    if isinstance(obj, (list, tuple)):
+        if not obj:
+            return "[]"
+        if all(isinstance(v, (Raw, int, float)) and not isinstance(v, bool) for v in obj):
+            parts = [dump_json(v) for v in obj]
+            if len(parts) <= per_line:
+                return "[" + ", ".join(parts) + "]"
+            rows = [", ".join(parts[i:i + per_line]) for i in range(0, len(parts), per_line)]
+            return "[\n" + pad1 + (",\n" + pad1).join(rows) + "\n" + pad + "]"
+        return "[\n" + ",\n".join(pad1 + dump_json(v, indent + 1, per_line) for v in obj) + "\n" + pad + "]"
+    if isinstance(obj, float):
+        return repr(obj)
+    return json.dumps(obj)
+
+
+def write_text(name, text):
+    with open(os.path.join(HERE, name), "w", encoding="ascii", newline="\n") as fh:
+        fh.write(text)
+
+
+def write_sample(s):
+    """Write <stem>.csv and <stem>.json for one sample dict."""
+    xs = fmt_array(s["x"], s["x_fmt"])
+    ys = fmt_array(s["y"], "%.6e")
+    es = fmt_array(s["y_error"], "%.4e") if s["y_error"] is not None else None
+
+    lines = ["# " + c for c in s["comments"]]
+    lines.append("# x unit: %s ; y unit: %s%s" % (
+        s["x_unit"], s["y_unit"], " ; y_error in the y unit" if es else " ; no y_error column"))
+    lines.append("# provenance: synthetic, made by make_samples.py (seed %d); true values in truth.json"
+                 % s["seed"])
+    lines.append("x,y,y_error" if es else "x,y")
+    for i in range(len(xs)):
+        lines.append(",".join([xs[i], ys[i], es[i]] if es else [xs[i], ys[i]]))
+    write_text(s["stem"] + ".csv", "\n".join(lines) + "\n")
+
+    spectrum = {"x": xs, "x_unit": s["x_unit"], "y": ys, "y_unit": s["y_unit"]}
+    if es:
+        spectrum["y_error"] = es
+    if s["exclude"]:
+        spectrum["exclude"] = [[Raw(s["x_fmt"] % lo), Raw(s["x_fmt"] % hi)] for lo, hi in s["exclude"]]
+    request = {"spectrum": spectrum, "model": {"kind": "planck"}, "options": s["options"]}
+    write_text(s["stem"] + ".json", dump_json(request) + "\n")
+
+
+# ---------------------------------------------------------------------------
+# The samples.
+
+def photon_like_sigma(model, snr_at_peak):
+    """Noise that scales like sqrt(signal): S/N = snr_at_peak at the brightest point."""
+    peak = float(np.max(model))
+    return np.sqrt(model * peak) / snr_at_peak
+
+
+def hot_star(seed):
+    rng = np.random.default_rng(seed)
+    t_true = 9500.0
+    radius = 2.10 * R_SUN
+    distance_pc = 120.0
+    omega = solid_angle(radius, distance_pc * PARSEC)
+    lam = np.arange(350.0, 1000.0 + 0.5, 1.0)                    # nm, 651 points
+    lines = [  # plain Gaussian absorption lines
+        {"center_nm": 397.0, "width_nm": 1.2, "depth": 0.30},
+        {"center_nm": 410.2, "width_nm": 1.5, "depth": 0.35},
+        {"center_nm": 434.0, "width_nm": 1.8, "depth": 0.40},
+        {"center_nm": 486.1, "width_nm": 2.0, "depth": 0.45},
+        {"center_nm": 656.3, "width_nm": 2.2, "depth": 0.40},
+    ]
+    model = omega * planck_lambda(lam * 1e-9, t_true) * absorption(lam, lines) / ERG_S_CM2_ANGSTROM
+    snr = 50.0
+    sigma = photon_like_sigma(model, snr)
+    y = model + rng.normal(0.0, 1.0, lam.size) * sigma
+    exclude = [(round(l["center_nm"] - 4 * l["width_nm"], 1), round(l["center_nm"] + 4 * l["width_nm"], 1))
+               for l in lines]
+    return {
+        "stem": "tms-0047-hot-star", "seed": seed,
+        "object": "TMS-0047, hot survey star (invented), Tallow Moor Observatory survey telescope (invented)",
+        "comments": [
+            "object: TMS-0047, hot survey star of the Tallow Moor Observatory small survey (all invented)",
+            "content: flux density F_lambda = Omega * B_lambda(T) with five Gaussian absorption lines, S/N ~50",
+        ],
+        "x": lam, "x_fmt": "%.3f", "x_unit": "nm", "y": y, "y_unit": "erg/s/cm2/Angstrom", "y_error": sigma,
+        "exclude": exclude,
+        "options": {"distance": {"value": Raw("%.1f" % distance_pc), "unit": "pc"}},
+        "truth": {
+            "temperature_K": t_true,
+            "scale": {"kind": "solid_angle", "value": omega, "unit": "sr"},
+            "radius_m": radius, "radius_R_sun": radius / R_SUN,
+            "distance": {"value": distance_pc, "unit": "pc", "in_request": True},
+            "noise": {"kind": "gaussian, photon-like sigma = sqrt(model*peak)/50",
+                      "snr_at_peak": snr, "y_error_given": True},
+            "features": {"absorption_lines": lines,
+                         "exclude_rule": "center +- 4 widths (Gaussian sigma)"},
+            "grid": "350-1000 nm, step 1 nm",
+        },
+    }
+
+
+def cool_star(seed):
+    rng = np.random.default_rng(seed)
+    t_true = 3900.0
+    radius = 0.62 * R_SUN
+    distance_pc = 14.0
+    omega = solid_angle(radius, distance_pc * PARSEC)
+    lam = np.arange(500.0, 2400.0 + 1.0, 2.0)                    # nm
+    gaps = [(1350.0, 1450.0), (1800.0, 1950.0)]
+    keep = np.ones(lam.size, dtype=bool)
+    for lo, hi in gaps:
+        keep &= ~((lam >= lo) & (lam <= hi))
+    model_full = omega * planck_lambda(lam * 1e-9, t_true) / W_M2_UM
+    snr = 40.0
+    sigma_full = photon_like_sigma(model_full, snr)
+    noise = rng.normal(0.0, 1.0, lam.size)   # drawn on the full grid, then the gaps are cut
+    lam, model, sigma, noise = lam[keep], model_full[keep], sigma_full[keep], noise[keep]
+    y = model + noise * sigma
+    return {
+        "stem": "tms-0112-cool-star", "seed": seed,
+        "object": "TMS-0112, cool survey star (invented), Tallow Moor Observatory survey telescope (invented)",
+        "comments": [
+            "object: TMS-0112, cool survey star of the Tallow Moor Observatory small survey (all invented)",
+            "content: flux density F_lambda = Omega * B_lambda(T), S/N ~40; telluric gaps 1350-1450 nm and "
+            "1800-1950 nm have no points",
+        ],
+        "x": lam, "x_fmt": "%.3f", "x_unit": "nm", "y": y, "y_unit": "W/m2/um", "y_error": sigma,
+        "exclude": [],
+        "options": {},
+        "truth": {
+            "temperature_K": t_true,
+            "scale": {"kind": "solid_angle", "value": omega, "unit": "sr"},
+            "radius_m": radius, "radius_R_sun": radius / R_SUN,
+            "distance": {"value": distance_pc, "unit": "pc", "in_request": False},
+            "noise": {"kind": "gaussian, photon-like sigma = sqrt(model*peak)/40",
+                      "snr_at_peak": snr, "y_error_given": True},
+            "features": {"telluric_gaps_nm": [list(g) for g in gaps],
+                         "note": "points inside the gaps were removed (not masked)"},
+            "grid": "500-2400 nm, step 2 nm, minus the gaps",
+        },
+    }
+
+
+def sunlike_star(seed):
+    rng = np.random.default_rng(seed)
+    t_true = 5750.0
+    radius = 1.05 * R_SUN
+    distance_pc = 85.0
+    omega = solid_angle(radius, distance_pc * PARSEC)
+    nu_lo, nu_hi = C / 900e-9 / 1e12, C / 380e-9 / 1e12          # THz
+    nu = np.linspace(nu_lo, nu_hi, 700)                            # uniform in frequency
+    lam = C / (nu * 1e12) * 1e9                                    # nm
+    lines = [
+        {"center_nm": 430.8, "width_nm": 0.8, "depth": 0.25},
+        {"center_nm": 517.0, "width_nm": 1.0, "depth": 0.30},
+        {"center_nm": 589.2, "width_nm": 0.9, "depth": 0.35},
+    ]
+    model = omega * planck_nu(nu * 1e12, t_true) * absorption(lam, lines) / MJY
+    snr = 50.0
+    sigma = float(np.max(model)) / snr                             # homoscedastic
+    y = model + rng.normal(0.0, sigma, nu.size)
+    # exclude ranges in THz: the wavelength range center +- 4 widths mapped to frequency
+    def thz(nm):
+        return C / (nm * 1e-9) / 1e12
+    exclude = [(math.floor(thz(l["center_nm"] + 4 * l["width_nm"]) * 1e3) / 1e3,
+                math.ceil(thz(l["center_nm"] - 4 * l["width_nm"]) * 1e3) / 1e3)
+               for l in lines]
+    exclude.sort()
+    return {
+        "stem": "tms-0203-sunlike-star", "seed": seed,
+        "object": "TMS-0203, sun-like survey star (invented), Tallow Moor Observatory survey telescope (invented)",
+        "comments": [
+            "object: TMS-0203, sun-like survey star of the Tallow Moor Observatory small survey (all invented)",
+            "content: flux density F_nu = Omega * B_nu(T) on a uniform frequency grid (380-900 nm), three "
+            "Gaussian absorption lines, constant noise, no y_error column",
+        ],
+        "x": nu, "x_fmt": "%.6f", "x_unit": "THz", "y": y, "y_unit": "mJy", "y_error": None,
+        "exclude": exclude,
+        "options": {},
+        "truth": {
+            "temperature_K": t_true,
+            "scale": {"kind": "solid_angle", "value": omega, "unit": "sr"},
+            "radius_m": radius, "radius_R_sun": radius / R_SUN,
+            "distance": {"value": distance_pc, "unit": "pc", "in_request": False},
+            "noise": {"kind": "gaussian, constant sigma = peak/50", "sigma_mJy": sigma,
+                      "snr_at_peak": snr, "y_error_given": False},
+            "features": {"absorption_lines": lines,
+                         "exclude_rule": "center +- 4 widths in wavelength, converted to THz and rounded outward"},
+            "grid": "700 points uniform in frequency, %.3f-%.3f THz (900-380 nm)" % (nu_lo, nu_hi),
+        },
+    }
+
+
+def bench_lamp(seed):
+    rng = np.random.default_rng(seed)
+    t_true = 3050.0
+    emissivity = 0.40
+    lam = np.arange(380.0, 1000.0 + 0.5, 1.0)                    # nm, 621 points
+    model = emissivity * planck_lambda(lam * 1e-9, t_true) / W_M2_SR_NM
+    rel, floor_frac = 0.01, 0.003
+    sigma = np.sqrt((rel * model) ** 2 + (floor_frac * float(np.max(model))) ** 2)
+    y = model + rng.normal(0.0, 1.0, lam.size) * sigma
+    spikes = [  # narrow stray-light emission spikes: (pixel wavelength nm, multiplicative excess)
+        {"x_nm": 436.0, "excess_fraction": 0.9},
+        {"x_nm": 546.0, "excess_fraction": 0.6},
+        {"x_nm": 547.0, "excess_fraction": 0.3},
+        {"x_nm": 812.0, "excess_fraction": 0.35},
+    ]
+    for sp in spikes:
+        i = int(np.argmin(np.abs(lam - sp["x_nm"])))
+        y[i] += sp["excess_fraction"] * model[i]
+        sp["excess_in_sigma"] = round(float(sp["excess_fraction"] * model[i] / sigma[i]), 1)
+    return {
+        "stem": "ql3-bench-lamp", "seed": seed,
+        "object": "bench lamp QL-3, quartz-tungsten lamp of the Cinder Street photometry lab (invented)",
+        "comments": [
+            "object: bench lamp QL-3, quartz-tungsten lamp, Cinder Street photometry lab (invented)",
+            "content: spectral radiance L_lambda = emissivity * B_lambda(T), 1% noise plus a floor, "
+            "a few narrow emission spikes (outliers)",
+        ],
+        "x": lam, "x_fmt": "%.3f", "x_unit": "nm", "y": y, "y_unit": "W/m2/sr/nm", "y_error": sigma,
+        "exclude": [],
+        "options": {"loss": {"kind": "cauchy", "scale": Raw("2.0")}},
+        "truth": {
+            "temperature_K": t_true,
+            "scale": {"kind": "emissivity", "value": emissivity, "unit": "1"},
+            "distance": None,
+            "noise": {"kind": "gaussian, sigma = sqrt((0.01*model)^2 + (0.003*peak)^2)",
+                      "relative": rel, "floor_fraction_of_peak": floor_frac, "y_error_given": True},
+            "features": {"emission_spikes": spikes,
+                         "note": "spikes are added to y only; y_error is the plain noise sigma"},
+            "grid": "380-1000 nm, step 1 nm",
+        },
+    }
+
+
+def cli_flags(s):
+    return "--x-unit %s --y-unit %s" % (s["x_unit"], s["y_unit"])
+
+
+def main():
+    makers = [hot_star, cool_star, sunlike_star, bench_lamp]
+    samples = [mk(BASE_SEED + i) for i, mk in enumerate(makers)]
+    truth = {
+        "about": "Synthetic demo spectra for planckton; the scenario (Tallow Moor Observatory, TMS survey "
+                 "stars, Cinder Street photometry lab, bench lamp QL-3) is invented. Made by make_samples.py.",
+        "constants": {"h": H, "c": C, "k": K, "source": "CODATA 2018 exact values"},
+        "base_seed": BASE_SEED,
+        "samples": [],
+    }
+    for s in samples:
+        write_sample(s)
+        entry = {
+            "name": s["stem"],
+            "object": s["object"],
+            "csv": s["stem"] + ".csv",
+            "json": s["stem"] + ".json",
+            "x_unit": s["x_unit"],
+            "y_unit": s["y_unit"],
+            "n_points": int(len(s["x"])),
+            "seed": s["seed"],
+            "cli_flags": cli_flags(s),
+            "cli_note": "cli_flags give the units of the CSV only; the exclude ranges, loss and distance "
+                        "are carried by the JSON request",
+            "exclude": [[lo, hi] for lo, hi in s["exclude"]],
+            "options": json.loads(dump_json(s["options"])),
+        }
+        entry.update(s["truth"])
+        truth["samples"].append(entry)
+    write_text("truth.json", dump_json(truth) + "\n")
+    if "--check" in sys.argv[1:]:
+        sys.exit(check(truth))
+
+
+# ---------------------------------------------------------------------------
+# --check: fit every written file and compare with the truth (needs scipy).
+
+def read_csv(path):
+    with open(path, encoding="ascii") as fh:
+        rows = [ln.strip() for ln in fh if ln.strip() and not ln.startswith("#")]
+    header = rows[0].split(",")
+    data = np.array([[float(v) for v in r.split(",")] for r in rows[1:]])
+    return header, data
+
+
+def check(truth):
+    from scipy.optimize import curve_fit, least_squares
+
+    factors = {"erg/s/cm2/Angstrom": ERG_S_CM2_ANGSTROM, "W/m2/um": W_M2_UM, "mJy": MJY,
+               "W/m2/sr/nm": W_M2_SR_NM}
+    failures = 0
+    for e in truth["samples"]:
+        with open(os.path.join(HERE, e["json"]), encoding="ascii") as fh:
+            req = json.load(fh)
+        sp = req["spectrum"]
+        x, y = np.array(sp["x"]), np.array(sp["y"])
+        err = np.array(sp["y_error"]) if "y_error" in sp else None
+
+        # the CSV must hold the same numbers as the JSON request
+        header, data = read_csv(os.path.join(HERE, e["csv"]))
+        same = header == (["x", "y", "y_error"] if err is not None else ["x", "y"]) \
+            and np.array_equal(data[:, 0], x) and np.array_equal(data[:, 1], y) \
+            and (err is None or np.array_equal(data[:, 2], err))
+
+        keep = np.ones(x.size, dtype=bool)
+        for lo, hi in sp.get("exclude", []):
+            keep &= ~((x >= lo) & (x <= hi))
+        f = factors[sp["y_unit"]]
+        if sp["x_unit"] == "THz":
+            def planck(xx, t):
+                return planck_nu(xx * 1e12, t)
+        else:
+            def planck(xx, t):
+                return planck_lambda(xx * 1e-9, t)
+        s_true = e["scale"]["value"]
+
+        def model(xx, t, s_rel):
+            return s_rel * s_true * planck(xx, t) / f
+
+        p0 = (0.8 * e["temperature_K"], 1.0)   # start off the truth on purpose
+        xk, yk = x[keep], y[keep]
+        ek = err[keep] if err is not None else None
+        loss = req["options"].get("loss")
+        if loss:
+            def resid(p):
+                return (model(xk, *p) - yk) / ek
+            p0r = curve_fit(model, xk, yk, p0=p0, sigma=ek, absolute_sigma=True)[0]  # plain LS start
+            res = least_squares(resid, p0r, loss=loss["kind"], f_scale=float(loss["scale"]), x_scale="jac")
+            p = res.x
+            cov = np.linalg.inv(res.jac.T @ res.jac)
+            how = "least_squares(loss=%s, f_scale=%s), plain-LS T=%.1f" % (loss["kind"], loss["scale"], p0r[0])
+        elif ek is not None:
+            p, cov = curve_fit(model, xk, yk, p0=p0, sigma=ek, absolute_sigma=True)
+            how = "curve_fit(sigma=y_error, absolute_sigma=True)"
+        else:
+            p, cov = curve_fit(model, xk, yk, p0=p0)
+            how = "curve_fit(no sigma: errors from scatter)"
+        t_fit, t_err = p[0], math.sqrt(cov[0, 0])
+        s_fit, s_err = p[1] * s_true, math.sqrt(cov[1, 1]) * s_true
+        z_t = (t_fit - e["temperature_K"]) / t_err
+        z_s = (s_fit - s_true) / s_err
+        ok = same and abs(z_t) < 2.0 and abs(z_s) < 3.0
+        extra = ""
+        dist = req["options"].get("distance")
+        if dist:
+            d_m = float(dist["value"]) * PARSEC
+            r_fit, r_true = d_m * math.sqrt(s_fit / math.pi), e["radius_m"]
+            extra = "  R = %.4f R_sun (true %.4f)" % (r_fit / R_SUN, r_true / R_SUN)
+            ok = ok and abs(r_fit - r_true) < 3.0 * 0.5 * s_err / s_fit * r_true
+        failures += not ok
+        print("%-22s %s  T = %.1f +- %.1f K (true %.0f, %+.2f sigma)  scale = %.4e +- %.1e (true %.4e, %+.2f sigma)"
+              "%s  n=%d/%d  csv==json:%s  [%s]"
+              % (e["name"], "OK  " if ok else "FAIL", t_fit, t_err, e["temperature_K"], z_t,
+                 s_fit, s_err, s_true, z_s, extra, int(keep.sum()), x.size, same, how))
+    return 1 if failures else 0
+
+
+if __name__ == "__main__":
+    main()
