@@ -177,7 +177,10 @@ std::string pointer_for_field(const std::string& field, const std::optional<std:
   } else {
     pointer = "/spectrum/" + field;
   }
-  if (index) pointer += "/" + std::to_string(*index);
+  if (index) {
+    pointer += '/';
+    pointer += std::to_string(*index);
+  }
   return pointer;
 }
 

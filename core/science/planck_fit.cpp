@@ -1,6 +1,9 @@
 #include "science/planck_fit.h"
 
 #include <ceres/ceres.h>
+#include <ceres/tiny_solver.h>
+
+#include <Eigen/Dense>
 
 #include <algorithm>
 #include <boost/math/special_functions/gamma.hpp>
@@ -21,85 +24,158 @@ constexpr int kParameters = 2;  // ln T, ln scale
 // the product prefactor * scale * exp(-x) nor lose precision (see planck.h).
 constexpr double kLogSpaceThreshold = 600.0;
 constexpr std::size_t kStartSubsample = 48;
-constexpr double kStartGridRatio = 1.5;
+constexpr double kExpm1Threshold = 1e-3;
+constexpr double kStartGridRatio = 2.0;
+constexpr int kGoldenSectionSteps = 16;
+// Relative step at which the local solve stops: the temperature is then known to ~1e-9 relative,
+// far inside any interval it is quoted with.
+constexpr double kParameterTolerance = 1e-10;
 // The reduced frequency range over which data constrain a temperature (see the header).
 constexpr double kStartMinX = 1e-3;
 constexpr double kStartMaxX = 300.0;
 
-// Per-point constants, computed once per request (never per iteration).
+// Per-point constants, computed once per request (never per iteration), as arrays so that the
+// model vectorises (Eigen's packet exp).
 struct PointTerms {
-  std::vector<double> prefactor;      // p(nu) of planck.h
-  std::vector<double> log_prefactor;  // ln p(nu)
-  std::vector<double> h_nu_over_k;    // x * T
-  std::vector<double> observed;       // y, SI
-  std::vector<double> weight;         // 1 / sigma
+  Eigen::ArrayXd prefactor;      // p(nu) of planck.h
+  Eigen::ArrayXd h_nu_over_k;    // x * T
+  Eigen::ArrayXd observed;       // y, SI
+  Eigen::ArrayXd weight;         // 1 / sigma
+  double min_h_nu_over_k = 0.0;
+  double max_h_nu_over_k = 0.0;
+
+  std::size_t size() const { return static_cast<std::size_t>(observed.size()); }
 };
 
-PointTerms make_point_terms(const MeasuredSpectrum& spectrum, double uniform_weight) {
-  const std::size_t n = spectrum.size();
+PointTerms make_point_terms(const MeasuredSpectrum& spectrum, const std::vector<std::size_t>& points,
+                            double uniform_weight) {
+  const Eigen::Index n = static_cast<Eigen::Index>(points.size());
   PointTerms terms;
   terms.prefactor.resize(n);
-  terms.log_prefactor.resize(n);
   terms.h_nu_over_k.resize(n);
-  terms.observed = spectrum.value_si;
+  terms.observed.resize(n);
   terms.weight.resize(n);
-  for (std::size_t i = 0; i < n; ++i) {
+  for (Eigen::Index k = 0; k < n; ++k) {
+    const std::size_t i = points[static_cast<std::size_t>(k)];
     const double nu = spectrum.frequency_hz[i];
-    terms.prefactor[i] = planck_prefactor(spectrum.y_unit.convention, nu);
-    terms.log_prefactor[i] = std::log(terms.prefactor[i]);
-    terms.h_nu_over_k[i] = constants::kPlanckOverBoltzmann * nu;
-    terms.weight[i] = spectrum.has_errors() ? 1.0 / spectrum.error_si[i] : uniform_weight;
+    terms.prefactor[k] = planck_prefactor(spectrum.y_unit.convention, nu);
+    terms.h_nu_over_k[k] = constants::kPlanckOverBoltzmann * nu;
+    terms.observed[k] = spectrum.value_si[i];
+    terms.weight[k] = spectrum.has_errors() ? 1.0 / spectrum.error_si[i] : uniform_weight;
   }
+  terms.min_h_nu_over_k = terms.h_nu_over_k.minCoeff();
+  terms.max_h_nu_over_k = terms.h_nu_over_k.maxCoeff();
   return terms;
 }
 
-// The model at one point and d ln(model) / d ln T = x / (1 - e^-x).
-struct PointModel {
-  double value;
-  double log_temperature_slope;
-};
-
-inline PointModel evaluate_point(const PointTerms& t, std::size_t i, double inverse_temperature,
-                                 double scale, double log_scale) {
-  const double x = t.h_nu_over_k[i] * inverse_temperature;
-  if (x > kLogSpaceThreshold) return {std::exp(log_scale + t.log_prefactor[i] - x), x};
-  const double e = std::exp(-x);
-  // 1 - e^-x loses precision for small x; expm1 keeps it (the Rayleigh-Jeans side).
-  const double one_minus_e = x < 0.5 ? -std::expm1(-x) : 1.0 - e;
-  return {scale * t.prefactor[i] * e / one_minus_e, x / one_minus_e};
+std::vector<std::size_t> all_points(std::size_t n) {
+  std::vector<std::size_t> points(n);
+  std::iota(points.begin(), points.end(), 0);
+  return points;
 }
 
-// Residuals (y_i - model_i) * w_i for the points [begin, end), parameters {ln T, ln scale}.
+// The model scale * p(nu) / (e^x - 1) and its log-temperature slope d ln(model) / d ln T =
+// x / (1 - e^-x), on a range of points. Scratch space is allocated once, so evaluating allocates
+// nothing.
+class PlanckKernel {
+ public:
+  explicit PlanckKernel(const PointTerms& terms)
+      : terms_(terms), x_(terms.size()), e_(terms.size()), inverse_one_minus_e_(terms.size()),
+        model_(terms.size()), slope_(terms.size()) {}
+
+  const PointTerms& terms() const { return terms_; }
+
+  // with_slope = false skips the slope, for evaluations that need no Jacobian.
+  void evaluate(double log_temperature, double log_scale, Eigen::Index begin, Eigen::Index count,
+                bool with_slope = true) const {
+    const double inverse_temperature = std::exp(-log_temperature);
+    const double scale = std::exp(log_scale);
+    auto x = x_.head(count);
+    auto e = e_.head(count);
+    auto inverse_one_minus_e = inverse_one_minus_e_.head(count);
+    x = terms_.h_nu_over_k.segment(begin, count) * inverse_temperature;
+    e = (-x).exp();
+    inverse_one_minus_e = 1.0 / (1.0 - e);
+    // 1 - e^-x carries a relative rounding error of about 1e-16 / x; below x = 1e-3 (where that
+    // would exceed 1e-13) expm1 takes over, so the Rayleigh-Jeans side keeps full precision.
+    if (terms_.min_h_nu_over_k * inverse_temperature < kExpm1Threshold) {
+      for (Eigen::Index k = 0; k < count; ++k) {
+        if (x[k] < kExpm1Threshold) inverse_one_minus_e[k] = -1.0 / std::expm1(-x[k]);
+      }
+    }
+    model_.head(count) = scale * terms_.prefactor.segment(begin, count) * e * inverse_one_minus_e;
+    if (with_slope) slope_.head(count) = x * inverse_one_minus_e;
+    // Deep on the Wien side the product would underflow before the value does: use logs.
+    if (terms_.max_h_nu_over_k * inverse_temperature > kLogSpaceThreshold) {
+      for (Eigen::Index k = 0; k < count; ++k) {
+        if (x[k] > kLogSpaceThreshold) {
+          model_[k] = std::exp(log_scale + std::log(terms_.prefactor[begin + k]) - x[k]);
+          slope_[k] = x[k];
+        }
+      }
+    }
+  }
+
+  // After evaluate(): residuals w (y - m) and, optionally, the two Jacobian columns.
+  void residuals(Eigen::Index begin, Eigen::Index count, double* residuals) const {
+    Eigen::Map<Eigen::ArrayXd>(residuals, count) =
+        terms_.weight.segment(begin, count) * (terms_.observed.segment(begin, count) - model_.head(count));
+  }
+  void jacobian_columns(Eigen::Index begin, Eigen::Index count, double* d_log_temperature, double* d_log_scale) const {
+    Eigen::Map<Eigen::ArrayXd> d_scale(d_log_scale, count);
+    d_scale = -terms_.weight.segment(begin, count) * model_.head(count);
+    Eigen::Map<Eigen::ArrayXd>(d_log_temperature, count) = d_scale * slope_.head(count);
+  }
+  const Eigen::ArrayXd& model() const { return model_; }
+
+ private:
+  const PointTerms& terms_;
+  mutable Eigen::ArrayXd x_, e_, inverse_one_minus_e_, model_, slope_;
+};
+
+// Residuals of the points [begin, end) for ceres::Problem, parameters {ln T, ln scale}; the
+// Jacobian is row-major as Ceres expects.
 class PlanckResiduals final : public ceres::CostFunction {
  public:
-  PlanckResiduals(const PointTerms* terms, std::size_t begin, std::size_t end)
-      : terms_(terms), begin_(begin), end_(end) {
-    set_num_residuals(static_cast<int>(end - begin));
+  PlanckResiduals(const PlanckKernel* kernel, Eigen::Index begin, Eigen::Index end)
+      : kernel_(kernel), begin_(begin), count_(end - begin), columns_(2 * (end - begin)) {
+    set_num_residuals(static_cast<int>(count_));
     mutable_parameter_block_sizes()->push_back(kParameters);
   }
 
   bool Evaluate(double const* const* parameters, double* residuals, double** jacobians) const override {
-    const double log_temperature = parameters[0][0];
-    const double log_scale = parameters[0][1];
-    const double inverse_temperature = std::exp(-log_temperature);
-    const double scale = std::exp(log_scale);
-    double* jacobian = jacobians != nullptr ? jacobians[0] : nullptr;
-    const PointTerms& t = *terms_;
-    for (std::size_t i = begin_, k = 0; i < end_; ++i, ++k) {
-      const PointModel m = evaluate_point(t, i, inverse_temperature, scale, log_scale);
-      const double w = t.weight[i];
-      residuals[k] = w * (t.observed[i] - m.value);
-      if (jacobian != nullptr) {
-        jacobian[2 * k] = -w * m.value * m.log_temperature_slope;
-        jacobian[2 * k + 1] = -w * m.value;
+    kernel_->evaluate(parameters[0][0], parameters[0][1], begin_, count_);
+    kernel_->residuals(begin_, count_, residuals);
+    if (jacobians != nullptr && jacobians[0] != nullptr) {
+      kernel_->jacobian_columns(begin_, count_, columns_.data(), columns_.data() + count_);
+      for (Eigen::Index k = 0; k < count_; ++k) {
+        jacobians[0][2 * k] = columns_[k];
+        jacobians[0][2 * k + 1] = columns_[count_ + k];
       }
     }
     return true;
   }
 
  private:
-  const PointTerms* terms_;
-  std::size_t begin_, end_;
+  const PlanckKernel* kernel_;
+  Eigen::Index begin_, count_;
+  mutable Eigen::ArrayXd columns_;
+};
+
+// The same residuals for ceres::TinySolver (column-major Jacobian).
+struct PlanckTinyProblem {
+  using Scalar = double;
+  enum { NUM_RESIDUALS = Eigen::Dynamic, NUM_PARAMETERS = kParameters };
+
+  const PlanckKernel* kernel;
+  int NumResiduals() const { return static_cast<int>(kernel->terms().size()); }
+  bool operator()(const double* parameters, double* residuals, double* jacobian) const {
+    const Eigen::Index n = NumResiduals();
+    kernel->evaluate(parameters[0], parameters[1], 0, n, jacobian != nullptr);
+    kernel->residuals(0, n, residuals);
+    if (jacobian != nullptr) kernel->jacobian_columns(0, n, jacobian, jacobian + n);
+    return true;
+  }
 };
 
 std::unique_ptr<ceres::LossFunction> make_loss(RobustLoss loss, double scale) {
@@ -125,9 +201,12 @@ double robust_rho(RobustLoss loss, double scale, double s) {
 std::vector<std::size_t> evenly_spaced_subsample(const MeasuredSpectrum& spectrum, std::size_t count) {
   std::vector<std::size_t> order(spectrum.size());
   std::iota(order.begin(), order.end(), 0);
-  std::sort(order.begin(), order.end(), [&](std::size_t a, std::size_t b) {
-    return spectrum.frequency_hz[a] < spectrum.frequency_hz[b];
-  });
+  // Spectra usually arrive sorted (by wavelength or frequency, either way); sort only when not.
+  const auto& nu = spectrum.frequency_hz;
+  const bool monotonic = std::is_sorted(nu.begin(), nu.end()) || std::is_sorted(nu.rbegin(), nu.rend());
+  if (!monotonic) {
+    std::sort(order.begin(), order.end(), [&](std::size_t a, std::size_t b) { return nu[a] < nu[b]; });
+  }
   if (order.size() <= count) return order;
   std::vector<std::size_t> picked(count);
   for (std::size_t j = 0; j < count; ++j) picked[j] = order[(j * (order.size() - 1)) / (count - 1)];
@@ -140,30 +219,32 @@ struct GridNode {
   double cost;
 };
 
-// Best scale in closed form for a fixed temperature, and the (robust) cost there.
-GridNode profile_scale(const PointTerms& t, const std::vector<std::size_t>& points, double log_temperature,
-                       RobustLoss loss, double loss_scale) {
-  const double inverse_temperature = std::exp(-log_temperature);
-  double yf = 0.0, ff = 0.0;
-  for (std::size_t i : points) {
-    const double f = evaluate_point(t, i, inverse_temperature, 1.0, 0.0).value;
-    const double w2 = t.weight[i] * t.weight[i];
-    yf += w2 * t.observed[i] * f;
-    ff += w2 * f * f;
-  }
+// Best scale in closed form for a fixed temperature, and the (robust) cost there, on the points
+// of the kernel.
+GridNode profile_scale(const PlanckKernel& kernel, double log_temperature, RobustLoss loss, double loss_scale) {
+  const PointTerms& t = kernel.terms();
+  const Eigen::Index n = static_cast<Eigen::Index>(t.size());
+  kernel.evaluate(log_temperature, 0.0, 0, n, false);
+  const Eigen::ArrayXd& f = kernel.model();
+  const Eigen::ArrayXd w2 = t.weight.square();
+  const double yf = (w2 * t.observed * f.head(n)).sum();
+  const double ff = (w2 * f.head(n).square()).sum();
+  const double yy = (w2 * t.observed.square()).sum();
   const bool usable = ff > 0.0 && std::isfinite(ff) && yf > 0.0;
   const double scale = usable ? yf / ff : 0.0;
-  double cost = 0.0;
-  for (std::size_t i : points) {
-    const double f = evaluate_point(t, i, inverse_temperature, 1.0, 0.0).value;
-    const double r = t.weight[i] * (t.observed[i] - scale * f);
-    cost += robust_rho(loss, loss_scale, r * r);
+  double cost = usable ? std::max(yy - yf * scale, 0.0) : yy;
+  if (loss != RobustLoss::kNone) {
+    cost = 0.0;
+    for (Eigen::Index k = 0; k < n; ++k) {
+      const double r = t.weight[k] * (t.observed[k] - scale * f[k]);
+      cost += robust_rho(loss, loss_scale, r * r);
+    }
   }
   return {log_temperature, usable ? std::log(scale) : -HUGE_VAL, usable ? cost : HUGE_VAL};
 }
 
-// Stage 1 of the method in the header.
-GridNode grid_start(const MeasuredSpectrum& spectrum, const PointTerms& t, double log_t_min,
+// Stage 1 of the method in the header, on an evenly spaced subsample.
+GridNode grid_start(const MeasuredSpectrum& spectrum, const PointTerms& subsample, double log_t_min,
                     double log_t_max, RobustLoss loss, double loss_scale) {
   const double h_over_k = constants::kPlanckOverBoltzmann;
   double lo = std::max(log_t_min, std::log(h_over_k * spectrum.min_frequency_hz / kStartMaxX));
@@ -172,36 +253,66 @@ GridNode grid_start(const MeasuredSpectrum& spectrum, const PointTerms& t, doubl
     lo = log_t_min;
     hi = log_t_max;
   }
-  const std::vector<std::size_t> points = evenly_spaced_subsample(spectrum, kStartSubsample);
+  const PlanckKernel kernel(subsample);
   const int nodes = std::clamp(static_cast<int>(std::ceil((hi - lo) / std::log(kStartGridRatio))) + 1, 3, 400);
   const double step = (hi - lo) / (nodes - 1);
   std::vector<GridNode> grid;
   grid.reserve(nodes);
-  for (int j = 0; j < nodes; ++j) grid.push_back(profile_scale(t, points, lo + j * step, loss, loss_scale));
+  for (int j = 0; j < nodes; ++j) grid.push_back(profile_scale(kernel, lo + j * step, loss, loss_scale));
   const auto best = std::min_element(grid.begin(), grid.end(),
                                      [](const GridNode& a, const GridNode& b) { return a.cost < b.cost; });
   const std::size_t b = static_cast<std::size_t>(best - grid.begin());
-  if (b == 0 || b + 1 == grid.size() || !std::isfinite(best->cost)) return *best;
-  // Vertex of the parabola through the best node and its neighbours (equal spacing).
-  const double c0 = grid[b - 1].cost, c1 = grid[b].cost, c2 = grid[b + 1].cost;
-  const double curvature = c0 - 2.0 * c1 + c2;
-  if (!(curvature > 0.0)) return *best;
-  const double offset = std::clamp(0.5 * (c0 - c2) / curvature, -1.0, 1.0);
-  const GridNode refined = profile_scale(t, points, best->log_temperature + offset * step, loss, loss_scale);
+  if (!std::isfinite(best->cost)) return *best;
+  // Golden-section search (J. Kiefer 1953) of the profiled cost between the neighbours of the best
+  // node; the cost is unimodal there at the grid's resolution.
+  constexpr double kInverseGolden = 0.6180339887498949;
+  double a = grid[b == 0 ? 0 : b - 1].log_temperature;
+  double d = grid[std::min(b + 1, grid.size() - 1)].log_temperature;
+  GridNode left = profile_scale(kernel, d - kInverseGolden * (d - a), loss, loss_scale);
+  GridNode right = profile_scale(kernel, a + kInverseGolden * (d - a), loss, loss_scale);
+  for (int iteration = 0; iteration < kGoldenSectionSteps; ++iteration) {
+    if (left.cost <= right.cost) {
+      d = right.log_temperature;
+      right = left;
+      left = profile_scale(kernel, d - kInverseGolden * (d - a), loss, loss_scale);
+    } else {
+      a = left.log_temperature;
+      left = right;
+      right = profile_scale(kernel, a + kInverseGolden * (d - a), loss, loss_scale);
+    }
+  }
+  const GridNode& refined = left.cost <= right.cost ? left : right;
   return refined.cost < best->cost ? refined : *best;
 }
 
-double median_absolute_residual(const PointTerms& t, double log_temperature, double log_scale) {
-  const double inverse_temperature = std::exp(-log_temperature);
-  const double scale = std::exp(log_scale);
-  std::vector<double> absolute(t.observed.size());
-  for (std::size_t i = 0; i < absolute.size(); ++i) {
-    const double model = evaluate_point(t, i, inverse_temperature, scale, log_scale).value;
-    absolute[i] = std::abs(t.observed[i] - model) * t.weight[i];
-  }
+double median_absolute_residual(const PlanckKernel& kernel, double log_temperature, double log_scale) {
+  const Eigen::Index n = static_cast<Eigen::Index>(kernel.terms().size());
+  std::vector<double> absolute(static_cast<std::size_t>(n));
+  kernel.evaluate(log_temperature, log_scale, 0, n);
+  kernel.residuals(0, n, absolute.data());
+  for (double& a : absolute) a = std::abs(a);
   const auto middle = absolute.begin() + static_cast<std::ptrdiff_t>(absolute.size() / 2);
   std::nth_element(absolute.begin(), middle, absolute.end());
   return *middle;
+}
+
+// The Gauss-Newton covariance (J^T J)^-1 of the parameters at the solution (e.g. W. H. Press et al.,
+// Numerical Recipes, 3rd ed., section 15.5), for the fast path. Eigen's self-adjoint eigensolver
+// detects a singular matrix the way ceres::Covariance's DENSE_SVD does (reciprocal condition number
+// below 1e-14).
+// The kernel must have just been evaluated, with the slope, at the solution.
+bool gauss_newton_covariance(const PlanckKernel& kernel, std::array<double, 4>& out) {
+  const Eigen::Index n = static_cast<Eigen::Index>(kernel.terms().size());
+  Eigen::MatrixXd jacobian(n, kParameters);
+  kernel.jacobian_columns(0, n, jacobian.col(0).data(), jacobian.col(1).data());
+  const Eigen::Matrix2d information = jacobian.transpose() * jacobian;
+  const Eigen::SelfAdjointEigenSolver<Eigen::Matrix2d> eigen(information);
+  const Eigen::Vector2d values = eigen.eigenvalues();
+  if (!(values[0] > 1e-14 * values[1]) || !std::isfinite(values[1])) return false;
+  const Eigen::Matrix2d covariance =
+      eigen.eigenvectors() * values.cwiseInverse().asDiagonal() * eigen.eigenvectors().transpose();
+  out = {covariance(0, 0), covariance(0, 1), covariance(1, 0), covariance(1, 1)};
+  return true;
 }
 
 std::string termination_name(const ceres::Solver::Summary& summary) {
@@ -212,6 +323,104 @@ std::string termination_name(const ceres::Solver::Summary& summary) {
       return summary.message.find("time") != std::string::npos ? "time_limit" : "iteration_limit";
     default: return "failed";
   }
+}
+
+struct Bounds {
+  double log_t_min;
+  double log_t_max;
+};
+
+struct SolveOutcome {
+  std::string termination;
+  std::string message;
+  int iterations = 0;
+  bool covariance_available = false;
+  std::array<double, 4> covariance{};
+};
+
+// ceres::TinySolver (Ceres 2.1) reads its cost before checking that the first evaluation succeeded;
+// the functor below always succeeds (non-finite results are caught after the solve), so GCC's
+// warning about that read does not apply.
+#pragma GCC diagnostic push
+#pragma GCC diagnostic ignored "-Wmaybe-uninitialized"
+// Fast path for plain least squares: ceres::TinySolver, Ceres' Levenberg-Marquardt for small dense
+// problems, without the set-up cost of a ceres::Problem. Bounded by the iteration budget.
+SolveOutcome solve_small_dense(const PlanckKernel& kernel, double* parameters, const PlanckFitOptions& options) {
+  using Solver = ceres::TinySolver<PlanckTinyProblem>;
+  Solver solver;
+  solver.options.max_num_iterations = options.max_iterations + 1;
+  solver.options.parameter_tolerance = kParameterTolerance;
+  solver.options.function_tolerance = 0.0;
+  solver.options.gradient_tolerance = 0.0;
+  solver.options.cost_threshold = 0.0;
+  Solver::Parameters x(parameters[0], parameters[1]);
+  const Solver::Summary& summary = solver.Solve(PlanckTinyProblem{&kernel}, &x);
+  parameters[0] = x[0];
+  parameters[1] = x[1];
+  SolveOutcome outcome;
+  outcome.iterations = summary.iterations;
+  switch (summary.status) {
+    case Solver::HIT_MAX_ITERATIONS:
+      outcome.termination = "iteration_limit";
+      outcome.message = "maximum number of iterations reached";
+      break;
+    case Solver::RELATIVE_STEP_SIZE_TOO_SMALL:
+      outcome.termination = "converged";
+      outcome.message = "relative step below the parameter tolerance";
+      break;
+    default:
+      outcome.termination = "converged";
+      outcome.message = "cost change or gradient vanished";
+      break;
+  }
+  return outcome;
+}
+#pragma GCC diagnostic pop
+
+// General path: a ceres::Problem with bounds on ln T and, for a robust loss, one residual block
+// per point so that the loss acts on each point; ceres::Covariance at the solution.
+SolveOutcome solve_general(const PlanckKernel& kernel, double* parameters, const PlanckFitOptions& options,
+                           const Bounds& bounds) {
+  const Eigen::Index n = static_cast<Eigen::Index>(kernel.terms().size());
+  ceres::Problem::Options problem_options;
+  problem_options.loss_function_ownership = ceres::DO_NOT_TAKE_OWNERSHIP;
+  ceres::Problem problem(problem_options);
+  std::unique_ptr<ceres::LossFunction> loss = make_loss(options.loss, options.loss_scale);
+  if (loss) {
+    for (Eigen::Index i = 0; i < n; ++i) {
+      problem.AddResidualBlock(new PlanckResiduals(&kernel, i, i + 1), loss.get(), parameters);
+    }
+  } else {
+    problem.AddResidualBlock(new PlanckResiduals(&kernel, 0, n), nullptr, parameters);
+  }
+  problem.SetParameterLowerBound(parameters, 0, bounds.log_t_min);
+  problem.SetParameterUpperBound(parameters, 0, bounds.log_t_max);
+
+  ceres::Solver::Options solver_options;
+  solver_options.linear_solver_type = ceres::DENSE_QR;
+  solver_options.max_num_iterations = options.max_iterations;
+  solver_options.max_solver_time_in_seconds = options.time_budget_seconds;
+  solver_options.function_tolerance = 1e-15;
+  solver_options.parameter_tolerance = kParameterTolerance;
+  solver_options.gradient_tolerance = 1e-20;
+  solver_options.logging_type = ceres::SILENT;
+  solver_options.num_threads = 1;
+  ceres::Solver::Summary summary;
+  ceres::Solve(solver_options, &problem, &summary);
+
+  SolveOutcome outcome;
+  outcome.termination = termination_name(summary);
+  outcome.message = summary.message;
+  outcome.iterations = static_cast<int>(summary.iterations.size()) - 1;
+
+  ceres::Covariance::Options covariance_options;
+  covariance_options.algorithm_type = ceres::DENSE_SVD;
+  covariance_options.num_threads = 1;
+  ceres::Covariance covariance(covariance_options);
+  const std::vector<std::pair<const double*, const double*>> blocks = {{parameters, parameters}};
+  outcome.covariance_available = covariance.Compute(blocks, &problem) &&
+                                 covariance.GetCovarianceBlock(parameters, parameters, outcome.covariance.data());
+  return outcome;
 }
 
 void validate_options(const PlanckFitOptions& options) {
@@ -293,76 +502,63 @@ PlanckFitResult fit_planck(const MeasuredSpectrum& spectrum, const PlanckFitOpti
   double mean_square = 0.0;
   for (double v : spectrum.value_si) mean_square += v * v;
   const double uniform_weight = 1.0 / std::sqrt(mean_square / static_cast<double>(n));
-  PointTerms terms = make_point_terms(spectrum, uniform_weight);
+  PointTerms terms = make_point_terms(spectrum, all_points(n), uniform_weight);
+  const PointTerms subsample =
+      make_point_terms(spectrum, evenly_spaced_subsample(spectrum, kStartSubsample), uniform_weight);
 
-  const double log_t_min = std::log(options.min_temperature_k);
-  const double log_t_max = std::log(options.max_temperature_k);
+  const Bounds bounds{std::log(options.min_temperature_k), std::log(options.max_temperature_k)};
   const bool robust = options.loss != RobustLoss::kNone;
 
   PlanckFitResult result;
   result.points_used = n;
   result.errors_estimated = !spectrum.has_errors();
 
-  GridNode start = grid_start(spectrum, terms, log_t_min, log_t_max,
+  GridNode start = grid_start(spectrum, subsample, bounds.log_t_min, bounds.log_t_max,
                               spectrum.has_errors() ? options.loss : RobustLoss::kNone, options.loss_scale);
+  if (!std::isfinite(start.log_scale)) start.log_scale = 0.0;
+  result.start_temperature_k = std::exp(start.log_temperature);
+  const PlanckKernel kernel(terms);
   if (robust && !spectrum.has_errors()) {
     // The loss scale is in units of the scatter: estimate it robustly (1.4826 MAD, the normal
     // consistency factor) from the residuals at the start.
-    const double mad = median_absolute_residual(terms, start.log_temperature, start.log_scale);
-    if (mad > 0.0) {
-      for (double& w : terms.weight) w /= 1.4826 * mad;
-    }
+    const double mad = median_absolute_residual(kernel, start.log_temperature, start.log_scale);
+    if (mad > 0.0) terms.weight /= 1.4826 * mad;
   }
-  if (!std::isfinite(start.log_scale)) start.log_scale = 0.0;
-  result.start_temperature_k = std::exp(start.log_temperature);
 
   double parameters[kParameters] = {start.log_temperature, start.log_scale};
-  ceres::Problem::Options problem_options;
-  problem_options.loss_function_ownership = ceres::DO_NOT_TAKE_OWNERSHIP;
-  problem_options.enable_fast_removal = false;
-  ceres::Problem problem(problem_options);
-  std::unique_ptr<ceres::LossFunction> loss = make_loss(options.loss, options.loss_scale);
-  if (robust) {
-    for (std::size_t i = 0; i < n; ++i) problem.AddResidualBlock(new PlanckResiduals(&terms, i, i + 1), loss.get(), parameters);
-  } else {
-    problem.AddResidualBlock(new PlanckResiduals(&terms, 0, n), nullptr, parameters);
+  SolveOutcome outcome;
+  bool general = robust;
+  if (!robust) {
+    outcome = solve_small_dense(kernel, parameters, options);
+    const bool inside = parameters[0] >= bounds.log_t_min && parameters[0] <= bounds.log_t_max;
+    if (!inside || !std::isfinite(parameters[0]) || !std::isfinite(parameters[1])) {
+      general = true;
+      parameters[0] = start.log_temperature;
+      parameters[1] = start.log_scale;
+    }
   }
-  problem.SetParameterLowerBound(parameters, 0, log_t_min);
-  problem.SetParameterUpperBound(parameters, 0, log_t_max);
+  if (general) outcome = solve_general(kernel, parameters, options, bounds);
 
-  ceres::Solver::Options solver_options;
-  solver_options.linear_solver_type = ceres::DENSE_QR;
-  solver_options.max_num_iterations = options.max_iterations;
-  solver_options.max_solver_time_in_seconds = options.time_budget_seconds;
-  solver_options.function_tolerance = 1e-15;
-  solver_options.parameter_tolerance = 1e-13;
-  solver_options.gradient_tolerance = 1e-20;
-  solver_options.logging_type = ceres::SILENT;
-  solver_options.minimizer_progress_to_stdout = false;
-  solver_options.num_threads = 1;
-  ceres::Solver::Summary summary;
-  ceres::Solve(solver_options, &problem, &summary);
-
-  result.termination = termination_name(summary);
-  result.converged = result.termination == "converged";
-  result.solver_message = summary.message;
-  result.iterations = static_cast<int>(summary.iterations.size()) - 1;
+  result.termination = outcome.termination;
+  result.converged = outcome.termination == "converged";
+  result.solver_message = outcome.message;
+  result.iterations = outcome.iterations;
   result.temperature_k = std::exp(parameters[0]);
   result.scale = std::exp(parameters[1]);
-  result.temperature_at_bound = std::abs(parameters[0] - log_t_min) < 1e-9 || std::abs(parameters[0] - log_t_max) < 1e-9;
+  result.temperature_at_bound = std::abs(parameters[0] - bounds.log_t_min) < 1e-9 ||
+                                std::abs(parameters[0] - bounds.log_t_max) < 1e-9;
 
   // Plain chi-square of the final residuals (not the robust cost).
-  double chi_square = 0.0;
-  const double inverse_temperature = 1.0 / result.temperature_k;
-  for (std::size_t i = 0; i < n; ++i) {
-    const double model = evaluate_point(terms, i, inverse_temperature, result.scale, parameters[1]).value;
-    const double r = terms.weight[i] * (terms.observed[i] - model);
-    chi_square += r * r;
-    if (robust) result.robust_cost += robust_rho(options.loss, options.loss_scale, r * r);
+  Eigen::ArrayXd residuals(static_cast<Eigen::Index>(n));
+  kernel.evaluate(parameters[0], parameters[1], 0, residuals.size());
+  kernel.residuals(0, residuals.size(), residuals.data());
+  if (!general) outcome.covariance_available = gauss_newton_covariance(kernel, outcome.covariance);
+  const double chi_square = residuals.square().sum();
+  if (robust) {
+    for (double r : residuals) result.robust_cost += robust_rho(options.loss, options.loss_scale, r * r);
   }
   result.degrees_of_freedom = static_cast<int>(n) - kParameters;
-  const double residual_variance =
-      result.degrees_of_freedom > 0 ? chi_square / result.degrees_of_freedom : 0.0;
+  const double residual_variance = result.degrees_of_freedom > 0 ? chi_square / result.degrees_of_freedom : 0.0;
   if (spectrum.has_errors()) {
     result.chi_square = chi_square;
     if (result.degrees_of_freedom > 0) {
@@ -372,13 +568,8 @@ PlanckFitResult fit_planck(const MeasuredSpectrum& spectrum, const PlanckFitOpti
     result.residual_scatter_si = std::sqrt(residual_variance) / terms.weight[0];
   }
 
-  ceres::Covariance::Options covariance_options;
-  covariance_options.algorithm_type = ceres::DENSE_SVD;
-  covariance_options.num_threads = 1;
-  ceres::Covariance covariance(covariance_options);
-  const std::vector<std::pair<const double*, const double*>> blocks = {{parameters, parameters}};
-  if (!result.temperature_at_bound && covariance.Compute(blocks, &problem) &&
-      covariance.GetCovarianceBlock(parameters, parameters, result.log_covariance.data())) {
+  if (outcome.covariance_available && !result.temperature_at_bound) {
+    result.log_covariance = outcome.covariance;
     const double factor = result.errors_estimated ? residual_variance : 1.0;
     for (double& c : result.log_covariance) c *= factor;
     result.covariance_available = std::isfinite(result.log_covariance[0]) && result.log_covariance[0] > 0.0 &&

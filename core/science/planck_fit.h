@@ -7,7 +7,7 @@
 // spectra it is arbitrary.
 //
 // Method.
-//  1. Start: a coarse grid over ln T (ratio 1.5 between nodes) on an evenly spaced subsample of the
+//  1. Start: a coarse grid over ln T (ratio 2 between nodes) on an evenly spaced subsample of the
 //     points, with the best scale at each node in closed form (linear least squares), refined by a
 //     parabola through the best three nodes. The grid spans the whole range the data can constrain
 //     (x = h nu / k T from 1e-3 at the highest frequency to 300 at the lowest) within the temperature

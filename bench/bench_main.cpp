@@ -1,0 +1,79 @@
+// planckton-bench: Google Benchmark programs for the fitting engine.
+//
+//   planckton-bench                          run every benchmark
+//   planckton-bench --dump-spectrum=1000     print the spectrum BM_FitSpectrum/1000 fits, as CSV
+//
+// bench/curve_fit_side_by_side.py runs both and times scipy.optimize.curve_fit on the same data.
+#include <benchmark/benchmark.h>
+
+#include <cstdio>
+#include <cstring>
+#include <string>
+
+#include "science/derived_quantities.h"
+#include "science/planck_fit.h"
+#include "synthetic_spectrum.h"
+
+namespace {
+
+using namespace planckton;
+
+// A complete fit as a request needs it: preparation (unit conversion), start, solve, covariance,
+// derived quantities.
+void BM_FitSpectrum(benchmark::State& state) {
+  const SpectrumInput input = bench::synthetic_spectrum(static_cast<int>(state.range(0)));
+  const PlanckFitOptions options;
+  for (auto _ : state) {
+    const MeasuredSpectrum spectrum = prepare_spectrum(input);
+    const PlanckFitResult fit = fit_planck(spectrum, options);
+    const DerivedQuantities derived = derive_quantities(fit, spectrum.y_unit, std::nullopt);
+    benchmark::DoNotOptimize(derived.temperature_k.value);
+  }
+}
+BENCHMARK(BM_FitSpectrum)->Arg(100)->Arg(1000)->Arg(10000)->Unit(benchmark::kMicrosecond);
+
+// The floor: one evaluation of the model at every point.
+void BM_PlanckEvaluation(benchmark::State& state) {
+  const SpectrumInput input = bench::synthetic_spectrum(static_cast<int>(state.range(0)));
+  const MeasuredSpectrum spectrum = prepare_spectrum(input);
+  for (auto _ : state) {
+    double sum = 0.0;
+    for (double nu : spectrum.frequency_hz) sum += planck_radiance(Convention::kEnergyPerWavelength, nu, 5800.0);
+    benchmark::DoNotOptimize(sum);
+  }
+}
+BENCHMARK(BM_PlanckEvaluation)->Arg(1000)->Unit(benchmark::kMicrosecond);
+
+int dump_spectrum(int n) {
+  const SpectrumInput input = bench::synthetic_spectrum(n);
+  std::printf("# fixed synthetic spectrum of BM_FitSpectrum/%d (bench/synthetic_spectrum.h)\n", n);
+  std::printf("# x: nm, y: W/m2/nm, y_error: W/m2/nm\n");
+  std::printf("# true temperature: %.17g K\n# true solid angle: %.17g sr\n", bench::kTrueTemperature,
+              bench::kTrueSolidAngle);
+  std::printf("x,y,y_error\n");
+  for (std::size_t i = 0; i < input.x.size(); ++i) {
+    std::printf("%.17g,%.17g,%.17g\n", input.x[i], input.y[i], input.y_error[i]);
+  }
+  return 0;
+}
+
+}  // namespace
+
+int main(int argc, char** argv) {
+  constexpr const char* kDump = "--dump-spectrum=";
+  for (int i = 1; i < argc; ++i) {
+    if (std::strncmp(argv[i], kDump, std::strlen(kDump)) == 0) {
+      const int n = std::atoi(argv[i] + std::strlen(kDump));
+      if (n < 3) {
+        std::fprintf(stderr, "planckton-bench: --dump-spectrum needs N >= 3\n");
+        return 2;
+      }
+      return dump_spectrum(n);
+    }
+  }
+  benchmark::Initialize(&argc, argv);
+  if (benchmark::ReportUnrecognizedArguments(argc, argv)) return 2;
+  benchmark::RunSpecifiedBenchmarks();
+  benchmark::Shutdown();
+  return 0;
+}
