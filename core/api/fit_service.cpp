@@ -67,7 +67,10 @@ nlohmann::json fit_json_text(std::string_view text) {
   nlohmann::json document;
   try {
     document = nlohmann::json::parse(text.begin(), text.end());
-  } catch (const nlohmann::json::parse_error& e) {
+  } catch (const nlohmann::json::out_of_range& e) {
+    // nlohmann reports a number beyond the range of a double (e.g. 1e999) this way.
+    throw ProblemError(malformed_document(std::string("the body holds a number a double cannot represent: ") + e.what()));
+  } catch (const nlohmann::json::exception& e) {
     throw ProblemError(malformed_document(std::string("the body is not valid JSON: ") + e.what()));
   }
   return fit_document(document);

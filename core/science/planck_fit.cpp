@@ -127,6 +127,7 @@ class PlanckKernel {
     Eigen::Map<Eigen::ArrayXd>(d_log_temperature, count) = d_scale * slope_.head(count);
   }
   const Eigen::ArrayXd& model() const { return model_; }
+  const Eigen::ArrayXd& slope() const { return slope_; }
 
  private:
   const PointTerms& terms_;
@@ -300,12 +301,16 @@ double median_absolute_residual(const PlanckKernel& kernel, double log_temperatu
 // Numerical Recipes, 3rd ed., section 15.5), for the fast path. Eigen's self-adjoint eigensolver
 // detects a singular matrix the way ceres::Covariance's DENSE_SVD does (reciprocal condition number
 // below 1e-14).
-// The kernel must have just been evaluated, with the slope, at the solution.
+// The kernel must have just been evaluated, with the slope, at the solution. J^T J is summed from
+// the two Jacobian columns (d r / d ln scale = -w m, d r / d ln T = -w m slope) without forming J.
 bool gauss_newton_covariance(const PlanckKernel& kernel, std::array<double, 4>& out) {
   const Eigen::Index n = static_cast<Eigen::Index>(kernel.terms().size());
-  Eigen::MatrixXd jacobian(n, kParameters);
-  kernel.jacobian_columns(0, n, jacobian.col(0).data(), jacobian.col(1).data());
-  const Eigen::Matrix2d information = jacobian.transpose() * jacobian;
+  const auto d_scale = kernel.terms().weight.head(n) * kernel.model().head(n);
+  const auto d_temperature = d_scale * kernel.slope().head(n);
+  Eigen::Matrix2d information;
+  information(0, 0) = d_temperature.square().sum();
+  information(0, 1) = information(1, 0) = (d_temperature * d_scale).sum();
+  information(1, 1) = d_scale.square().sum();
   const Eigen::SelfAdjointEigenSolver<Eigen::Matrix2d> eigen(information);
   const Eigen::Vector2d values = eigen.eigenvalues();
   if (!(values[0] > 1e-14 * values[1]) || !std::isfinite(values[1])) return false;
