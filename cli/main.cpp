@@ -91,7 +91,7 @@ nlohmann::json table_request_members(const FitArguments& args) {
 
 int run_fit(const FitArguments& args) {
   const std::string text = read_input(args.file);
-  nlohmann::json response;
+  nlohmann::ordered_json response;
   if (looks_like_json(text, args.format)) {
     response = planckton::api::fit_json_text(text);
   } else {

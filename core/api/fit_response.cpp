@@ -10,7 +10,7 @@ namespace planckton::api {
 
 namespace {
 
-using nlohmann::json;
+using json = nlohmann::ordered_json;
 
 // IAU 2015 Resolution B3 nominal solar values.
 constexpr double kNominalSolarRadius = 6.957e8;        // m
@@ -117,7 +117,7 @@ json statistics_json(const FitRequest& request, const MeasuredSpectrum& spectrum
 
 }  // namespace
 
-json make_fit_response(const FitRequest& request, const MeasuredSpectrum& spectrum, const PlanckFitResult& fit,
+nlohmann::ordered_json make_fit_response(const FitRequest& request, const MeasuredSpectrum& spectrum, const PlanckFitResult& fit,
                        const DerivedQuantities& derived) {
   json peaks = json::object();
   for (const PeakEstimate& peak : derived.peaks) peaks[peak.id] = peak_json(peak);

@@ -1,5 +1,6 @@
 // The fit response document: science results -> JSON (DESIGN.md's fixed points, and more).
 //
+// Members keep the order in which they are written (model first, provenance last).
 // Units at this edge: temperature K; peak frequencies Hz and peak wavelengths nm; bolometric flux
 // W m^-2; angular radius mas; radius m and nominal solar radii, luminosity W and nominal solar
 // luminosities (IAU 2015 Resolution B3: R_sun = 6.957e8 m, L_sun = 3.828e26 W).
@@ -11,7 +12,7 @@
 
 namespace planckton::api {
 
-nlohmann::json make_fit_response(const FitRequest& request, const MeasuredSpectrum& spectrum,
+nlohmann::ordered_json make_fit_response(const FitRequest& request, const MeasuredSpectrum& spectrum,
                                  const PlanckFitResult& fit, const DerivedQuantities& derived);
 
 }  // namespace planckton::api

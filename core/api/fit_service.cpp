@@ -43,7 +43,7 @@ bool nesting_within_limit(std::string_view text) {
 
 }  // namespace
 
-nlohmann::json fit_document(const nlohmann::json& document) {
+nlohmann::ordered_json fit_document(const nlohmann::json& document) {
   const FitRequest request = parse_fit_request(document);
   try {
     const MeasuredSpectrum spectrum = prepare_spectrum(request.spectrum);
@@ -60,7 +60,7 @@ nlohmann::json fit_document(const nlohmann::json& document) {
   }
 }
 
-nlohmann::json fit_json_text(std::string_view text) {
+nlohmann::ordered_json fit_json_text(std::string_view text) {
   if (!nesting_within_limit(text)) {
     throw ProblemError(malformed_document("the JSON nests deeper than " + std::to_string(kMaxNestingDepth) + " levels"));
   }
@@ -76,7 +76,7 @@ nlohmann::json fit_json_text(std::string_view text) {
   return fit_document(document);
 }
 
-nlohmann::json fit_table_text(std::string_view text, const TableRequestOptions& options,
+nlohmann::ordered_json fit_table_text(std::string_view text, const TableRequestOptions& options,
                               const nlohmann::json& extra_request_members) {
   const Table table = read_table(text);
   nlohmann::json request = table_to_request(table, options);

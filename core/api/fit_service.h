@@ -13,14 +13,14 @@
 namespace planckton::api {
 
 // JSON request document -> JSON response document.
-nlohmann::json fit_document(const nlohmann::json& request);
+nlohmann::ordered_json fit_document(const nlohmann::json& request);
 
 // Request text (JSON) -> response; malformed JSON becomes a 400 problem.
-nlohmann::json fit_json_text(std::string_view text);
+nlohmann::ordered_json fit_json_text(std::string_view text);
 
 // A table with its units -> response; problems with a row carry the table's line number.
 // extra_request_members are merged into the request (members of "spectrum" into the spectrum).
-nlohmann::json fit_table_text(std::string_view text, const TableRequestOptions& options,
+nlohmann::ordered_json fit_table_text(std::string_view text, const TableRequestOptions& options,
                               const nlohmann::json& extra_request_members);
 
 }  // namespace planckton::api

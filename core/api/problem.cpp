@@ -4,8 +4,8 @@
 
 namespace planckton::api {
 
-nlohmann::json Problem::to_json() const {
-  nlohmann::json doc = {{"type", type}, {"title", title}, {"status", status}, {"detail", detail}};
+nlohmann::ordered_json Problem::to_json() const {
+  nlohmann::ordered_json doc = {{"type", type}, {"title", title}, {"status", status}, {"detail", detail}};
   if (!pointer.empty()) doc["pointer"] = pointer;
   if (line) doc["line"] = *line;
   if (!accepted.empty()) doc["accepted"] = accepted;

@@ -25,7 +25,7 @@ struct Problem {
   std::optional<std::size_t> line;
   std::vector<std::string> accepted;
 
-  nlohmann::json to_json() const;
+  nlohmann::ordered_json to_json() const;
   std::string one_line() const;  // for stderr
 };
 

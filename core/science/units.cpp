@@ -100,11 +100,18 @@ std::optional<std::pair<const Symbol*, double>> resolve_symbol(std::string_view 
   return std::nullopt;
 }
 
+std::string joined(const std::vector<std::string>& items) {
+  std::string out;
+  for (const auto& item : items) out += (out.empty() ? "" : ", ") + item;
+  return out;
+}
+
 bool is_symbol_char(unsigned char c) { return std::isalpha(c) || c >= 0x80; }
 
 class UnitParser {
  public:
-  UnitParser(std::string_view text, std::string field) : text_(text), field_(std::move(field)) {}
+  UnitParser(std::string_view text, std::string field, const std::vector<std::string>& accepted)
+      : text_(text), field_(std::move(field)), accepted_(accepted) {}
 
   ParsedUnit parse() {
     skip_spaces();
@@ -170,8 +177,10 @@ class UnitParser {
     const std::size_t start = pos_;
     while (!at_end() && std::isdigit(static_cast<unsigned char>(text_[pos_]))) ++pos_;
     if (pos_ > start) {
-      std::from_chars(text_.data() + start, text_.data() + pos_, power);
-      if (power == 0 || power > 9) fail("has an unsupported power");
+      const auto [end, error] = std::from_chars(text_.data() + start, text_.data() + pos_, power);
+      if (error != std::errc() || end != text_.data() + pos_ || power == 0 || power > 9) {
+        fail("has an unsupported power (1 to 9 are accepted)");
+      }
     } else if (sign == -1 || parenthesised) {
       fail("has a sign or parenthesis without a power");
     }
@@ -191,20 +200,16 @@ class UnitParser {
   bool next_is(std::string_view s) const { return text_.substr(pos_, s.size()) == s; }
 
   [[noreturn]] void fail(const std::string& why) const {
-    throw InputError(field_, "unit '" + std::string(text_) + "' " + why);
+    throw InputError(field_, "unit '" + std::string(text_) + "' " + why + "; accepted are, for example: " +
+                                 joined(accepted_) + " (slash or IVOA VOUnit style, any SI prefix)");
   }
 
   std::string_view text_;
   std::string field_;
+  const std::vector<std::string>& accepted_;
   std::size_t pos_ = 0;
   ParsedUnit result_;
 };
-
-std::string joined(const std::vector<std::string>& items) {
-  std::string out;
-  for (const auto& item : items) out += (out.empty() ? "" : ", ") + item;
-  return out;
-}
 
 [[noreturn]] void reject_kind(const std::string& field, std::string_view text, std::string_view what,
                               const std::vector<std::string>& accepted) {
@@ -240,7 +245,7 @@ void require_positive_finite(double value, const char* what) {
 }  // namespace
 
 SpectralAxisUnit parse_spectral_axis_unit(std::string_view text) {
-  const ParsedUnit parsed = UnitParser(text, "x_unit").parse();
+  const ParsedUnit parsed = UnitParser(text, "x_unit", documented_spectral_axis_units()).parse();
   SpectralAxisUnit unit{std::string(text), SpectralAxisKind::kWavelength, parsed.to_si};
   if (parsed.relative) reject_kind("x_unit", text, "a spectral coordinate", documented_spectral_axis_units());
   if (parsed.dimension == Dimension{0, 1, 0, 0, 0}) {
@@ -259,7 +264,7 @@ SpectralAxisUnit parse_spectral_axis_unit(std::string_view text) {
 }
 
 FluxDensityUnit parse_flux_density_unit(std::string_view text) {
-  const ParsedUnit parsed = UnitParser(text, "y_unit").parse();
+  const ParsedUnit parsed = UnitParser(text, "y_unit", documented_flux_density_units()).parse();
   const int photons = parsed.dimension.photons;
   const int steradians = parsed.dimension.steradians;
   Dimension rest = parsed.dimension;
@@ -278,7 +283,7 @@ FluxDensityUnit parse_flux_density_unit(std::string_view text) {
 }
 
 double parse_length_unit(std::string_view text) {
-  const ParsedUnit parsed = UnitParser(text, "distance.unit").parse();
+  const ParsedUnit parsed = UnitParser(text, "distance.unit", documented_length_units()).parse();
   if (parsed.relative || !(parsed.dimension == kLength)) {
     reject_kind("distance.unit", text, "a length", documented_length_units());
   }
