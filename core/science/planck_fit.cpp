@@ -9,6 +9,7 @@
 #include <boost/math/special_functions/gamma.hpp>
 #include <cmath>
 #include <memory>
+#include <limits>
 #include <numeric>
 
 #include "science/constants.h"
@@ -85,9 +86,14 @@ class PlanckKernel {
 
   const PointTerms& terms() const { return terms_; }
 
-  // with_slope = false skips the slope, for evaluations that need no Jacobian.
+  // with_slope = false skips the slope, for evaluations that need no Jacobian. Evaluating again at
+  // the point of the previous call costs nothing: Levenberg-Marquardt evaluates an accepted trial
+  // point a second time for its Jacobian, and the fit once more for its statistics.
   void evaluate(double log_temperature, double log_scale, Eigen::Index begin, Eigen::Index count,
                 bool with_slope = true) const {
+    const Evaluation call{log_temperature, log_scale, begin, count, with_slope};
+    if (last_.covers(call)) return;
+    last_ = call;
     const double inverse_temperature = std::exp(-log_temperature);
     const double scale = std::exp(log_scale);
     auto x = x_.head(count);
@@ -130,8 +136,20 @@ class PlanckKernel {
   const Eigen::ArrayXd& slope() const { return slope_; }
 
  private:
+  struct Evaluation {
+    double log_temperature = std::numeric_limits<double>::quiet_NaN();
+    double log_scale = std::numeric_limits<double>::quiet_NaN();
+    Eigen::Index begin = 0, count = 0;
+    bool with_slope = false;
+    bool covers(const Evaluation& e) const {
+      return e.log_temperature == log_temperature && e.log_scale == log_scale && e.begin == begin &&
+             e.count == count && (with_slope || !e.with_slope);
+    }
+  };
+
   const PointTerms& terms_;
   mutable Eigen::ArrayXd x_, e_, inverse_one_minus_e_, model_, slope_;
+  mutable Evaluation last_;
 };
 
 // Residuals of the points [begin, end) for ceres::Problem, parameters {ln T, ln scale}; the
@@ -172,7 +190,8 @@ struct PlanckTinyProblem {
   int NumResiduals() const { return static_cast<int>(kernel->terms().size()); }
   bool operator()(const double* parameters, double* residuals, double* jacobian) const {
     const Eigen::Index n = NumResiduals();
-    kernel->evaluate(parameters[0], parameters[1], 0, n, jacobian != nullptr);
+    // Always with the slope, so that the Jacobian of an accepted trial point comes from the cache.
+    kernel->evaluate(parameters[0], parameters[1], 0, n);
     kernel->residuals(0, n, residuals);
     if (jacobian != nullptr) kernel->jacobian_columns(0, n, jacobian, jacobian + n);
     return true;
@@ -220,20 +239,29 @@ struct GridNode {
   double cost;
 };
 
+// The weighted sums of the data that the closed-form scale needs, computed once per subsample.
+struct ProfileSums {
+  Eigen::ArrayXd w2;   // w^2
+  Eigen::ArrayXd w2y;  // w^2 y
+  double yy = 0.0;     // sum w^2 y^2
+
+  explicit ProfileSums(const PointTerms& t)
+      : w2(t.weight.square()), w2y(w2 * t.observed), yy((w2y * t.observed).sum()) {}
+};
+
 // Best scale in closed form for a fixed temperature, and the (robust) cost there, on the points
 // of the kernel.
-GridNode profile_scale(const PlanckKernel& kernel, double log_temperature, RobustLoss loss, double loss_scale) {
+GridNode profile_scale(const PlanckKernel& kernel, const ProfileSums& sums, double log_temperature,
+                       RobustLoss loss, double loss_scale) {
   const PointTerms& t = kernel.terms();
   const Eigen::Index n = static_cast<Eigen::Index>(t.size());
   kernel.evaluate(log_temperature, 0.0, 0, n, false);
-  const Eigen::ArrayXd& f = kernel.model();
-  const Eigen::ArrayXd w2 = t.weight.square();
-  const double yf = (w2 * t.observed * f.head(n)).sum();
-  const double ff = (w2 * f.head(n).square()).sum();
-  const double yy = (w2 * t.observed.square()).sum();
+  const auto f = kernel.model().head(n);
+  const double yf = (sums.w2y * f).sum();
+  const double ff = (sums.w2 * f.square()).sum();
   const bool usable = ff > 0.0 && std::isfinite(ff) && yf > 0.0;
   const double scale = usable ? yf / ff : 0.0;
-  double cost = usable ? std::max(yy - yf * scale, 0.0) : yy;
+  double cost = usable ? std::max(sums.yy - yf * scale, 0.0) : sums.yy;
   if (loss != RobustLoss::kNone) {
     cost = 0.0;
     for (Eigen::Index k = 0; k < n; ++k) {
@@ -255,11 +283,12 @@ GridNode grid_start(const MeasuredSpectrum& spectrum, const PointTerms& subsampl
     hi = log_t_max;
   }
   const PlanckKernel kernel(subsample);
+  const ProfileSums sums(subsample);
   const int nodes = std::clamp(static_cast<int>(std::ceil((hi - lo) / std::log(kStartGridRatio))) + 1, 3, 400);
   const double step = (hi - lo) / (nodes - 1);
   std::vector<GridNode> grid;
   grid.reserve(nodes);
-  for (int j = 0; j < nodes; ++j) grid.push_back(profile_scale(kernel, lo + j * step, loss, loss_scale));
+  for (int j = 0; j < nodes; ++j) grid.push_back(profile_scale(kernel, sums, lo + j * step, loss, loss_scale));
   const auto best = std::min_element(grid.begin(), grid.end(),
                                      [](const GridNode& a, const GridNode& b) { return a.cost < b.cost; });
   const std::size_t b = static_cast<std::size_t>(best - grid.begin());
@@ -269,17 +298,17 @@ GridNode grid_start(const MeasuredSpectrum& spectrum, const PointTerms& subsampl
   constexpr double kInverseGolden = 0.6180339887498949;
   double a = grid[b == 0 ? 0 : b - 1].log_temperature;
   double d = grid[std::min(b + 1, grid.size() - 1)].log_temperature;
-  GridNode left = profile_scale(kernel, d - kInverseGolden * (d - a), loss, loss_scale);
-  GridNode right = profile_scale(kernel, a + kInverseGolden * (d - a), loss, loss_scale);
+  GridNode left = profile_scale(kernel, sums, d - kInverseGolden * (d - a), loss, loss_scale);
+  GridNode right = profile_scale(kernel, sums, a + kInverseGolden * (d - a), loss, loss_scale);
   for (int iteration = 0; iteration < kGoldenSectionSteps; ++iteration) {
     if (left.cost <= right.cost) {
       d = right.log_temperature;
       right = left;
-      left = profile_scale(kernel, d - kInverseGolden * (d - a), loss, loss_scale);
+      left = profile_scale(kernel, sums, d - kInverseGolden * (d - a), loss, loss_scale);
     } else {
       a = left.log_temperature;
       left = right;
-      right = profile_scale(kernel, a + kInverseGolden * (d - a), loss, loss_scale);
+      right = profile_scale(kernel, sums, a + kInverseGolden * (d - a), loss, loss_scale);
     }
   }
   const GridNode& refined = left.cost <= right.cost ? left : right;
