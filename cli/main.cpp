@@ -58,7 +58,7 @@ double parse_cli_number(const std::string& text, const std::string& what) {
     if (used == text.size()) return value;
   } catch (const std::exception&) {
   }
-  throw planckton::api::ProblemError(planckton::api::invalid_value("", what + ": '" + text + "' is not a number"));
+  throw planckton::api::ProblemError(planckton::api::invalid_argument(what + ": '" + text + "' is not a number"));
 }
 
 // The table's options, in the same members a JSON request carries.
@@ -78,7 +78,7 @@ nlohmann::json table_request_members(const FitArguments& args) {
     for (const std::string& range : args.exclude) {
       const auto colon = range.find(':');
       if (colon == std::string::npos) {
-        throw planckton::api::ProblemError(planckton::api::invalid_value("", "--exclude takes LO:HI, got '" + range + "'"));
+        throw planckton::api::ProblemError(planckton::api::invalid_argument("--exclude takes LO:HI, got '" + range + "'"));
       }
       ranges.push_back({parse_cli_number(range.substr(0, colon), "--exclude"),
                         parse_cli_number(range.substr(colon + 1), "--exclude")});
@@ -96,8 +96,8 @@ int run_fit(const FitArguments& args) {
     response = planckton::api::fit_json_text(text);
   } else {
     if (args.table.x_unit.empty() || args.table.y_unit.empty()) {
-      throw planckton::api::ProblemError(planckton::api::invalid_value(
-          "", "a table needs its units: give --x-unit and --y-unit (e.g. --x-unit nm --y-unit W/m2/nm)"));
+      throw planckton::api::ProblemError(planckton::api::invalid_argument(
+          "a table needs its units: give --x-unit and --y-unit (e.g. --x-unit nm --y-unit W/m2/nm)"));
     }
     response = planckton::api::fit_table_text(text, args.table, table_request_members(args));
   }

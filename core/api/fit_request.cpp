@@ -30,7 +30,7 @@ const char* type_name(const json& value) {
 }
 
 void require_object(const json& value, const std::string& pointer, const std::vector<std::string>& members) {
-  if (!value.is_object()) fail(pointer.empty() ? "/" : pointer, std::string("must be an object, is ") + type_name(value));
+  if (!value.is_object()) fail(pointer, std::string("must be an object, is ") + type_name(value));
   for (const auto& [key, _] : value.items()) {
     if (std::find(members.begin(), members.end(), key) == members.end()) {
       fail(pointer + "/" + key, "is not a known member here", members);

@@ -41,6 +41,19 @@ bool nesting_within_limit(std::string_view text) {
   return true;
 }
 
+// "/spectrum/{x,y,y_error}/<row>" -> the table line of that row; other pointers have no line.
+std::optional<std::size_t> table_line_of(const std::string& pointer, const Table& table) {
+  for (const char* column : {"/spectrum/x/", "/spectrum/y/", "/spectrum/y_error/"}) {
+    const std::string prefix = column;
+    if (pointer.rfind(prefix, 0) != 0) continue;
+    const std::string row = pointer.substr(prefix.size());
+    if (row.empty() || row.find_first_not_of("0123456789") != std::string::npos || row.size() > 18) return std::nullopt;
+    const std::size_t index = std::stoul(row);
+    return index < table.line_of_row.size() ? std::optional(table.line_of_row[index]) : std::nullopt;
+  }
+  return std::nullopt;
+}
+
 }  // namespace
 
 nlohmann::ordered_json fit_document(const nlohmann::json& document) {
@@ -90,16 +103,8 @@ nlohmann::ordered_json fit_table_text(std::string_view text, const TableRequestO
   try {
     return fit_document(request);
   } catch (ProblemError& e) {
-    // "/spectrum/<column>/<row>" -> the table's line.
     Problem& problem = e.problem();
-    const std::size_t slash = problem.pointer.rfind('/');
-    if (problem.pointer.rfind("/spectrum/", 0) == 0 && slash > 9 && slash + 1 < problem.pointer.size()) {
-      const std::string tail = problem.pointer.substr(slash + 1);
-      if (tail.find_first_not_of("0123456789") == std::string::npos) {
-        const std::size_t row = std::stoul(tail);
-        if (row < table.line_of_row.size()) problem.line = table.line_of_row[row];
-      }
-    }
+    if (problem.pointer) problem.line = table_line_of(*problem.pointer, table);
     throw;
   }
 }

@@ -6,7 +6,7 @@ namespace planckton::api {
 
 nlohmann::ordered_json Problem::to_json() const {
   nlohmann::ordered_json doc = {{"type", type}, {"title", title}, {"status", status}, {"detail", detail}};
-  if (!pointer.empty()) doc["pointer"] = pointer;
+  if (pointer) doc["pointer"] = *pointer;
   if (line) doc["line"] = *line;
   if (!accepted.empty()) doc["accepted"] = accepted;
   return doc;
@@ -15,15 +15,20 @@ nlohmann::ordered_json Problem::to_json() const {
 std::string Problem::one_line() const {
   std::string text = title + ": " + detail;
   if (line) text += " (line " + std::to_string(*line) + ")";
-  if (!pointer.empty()) text += " (at " + pointer + ")";
+  if (pointer) text += " (at " + (pointer->empty() ? std::string("the document root") : *pointer) + ")";
   return text;
 }
 
 Problem malformed_document(std::string detail, std::optional<std::size_t> line) {
-  return {"/problems/malformed-document", "The request document cannot be read", 400, std::move(detail), "", line, {}};
+  return {"/problems/malformed-document", "The request document cannot be read", 400, std::move(detail), std::nullopt,
+          line, {}};
 }
 
-Problem invalid_value(std::string pointer, std::string detail, std::vector<std::string> accepted) {
+Problem invalid_argument(std::string detail, std::vector<std::string> accepted) {
+  return invalid_value(std::nullopt, std::move(detail), std::move(accepted));
+}
+
+Problem invalid_value(std::optional<std::string> pointer, std::string detail, std::vector<std::string> accepted) {
   return {"/problems/invalid-value", "A value in the request is not acceptable", 422, std::move(detail),
           std::move(pointer), std::nullopt, std::move(accepted)};
 }
@@ -34,7 +39,8 @@ Problem unsupported_feature(std::string pointer, std::string detail, std::vector
 }
 
 Problem fit_failed(std::string detail) {
-  return {"/problems/fit-failed", "The fit could not be carried out", 422, std::move(detail), "", std::nullopt, {}};
+  return {"/problems/fit-failed", "The fit could not be carried out", 422, std::move(detail), std::nullopt,
+          std::nullopt, {}};
 }
 
 }  // namespace planckton::api

@@ -21,7 +21,7 @@ struct Problem {
   std::string title;  // short, the same for every problem of this type
   int status = 422;   // the HTTP status the service answers with
   std::string detail;
-  std::string pointer;
+  std::optional<std::string> pointer;  // "" is the whole document (RFC 6901); absent: not about one value
   std::optional<std::size_t> line;
   std::vector<std::string> accepted;
 
@@ -42,7 +42,9 @@ class ProblemError : public std::exception {
 
 // The kinds of problem planckton reports.
 Problem malformed_document(std::string detail, std::optional<std::size_t> line = std::nullopt);
-Problem invalid_value(std::string pointer, std::string detail, std::vector<std::string> accepted = {});
+Problem invalid_value(std::optional<std::string> pointer, std::string detail, std::vector<std::string> accepted = {});
+// A problem with the way a front end was called (a flag, a table column), not with a document value.
+Problem invalid_argument(std::string detail, std::vector<std::string> accepted = {});
 Problem unsupported_feature(std::string pointer, std::string detail, std::vector<std::string> accepted = {});
 Problem fit_failed(std::string detail);
 
