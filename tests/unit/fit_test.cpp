@@ -143,6 +143,27 @@ TEST(Fit, RecoversTemperatureWithinThreeSigma) {
   }
 }
 
+// The fast path (ceres::TinySolver and the Gauss-Newton covariance of planck_fit.cpp) and the
+// general path (ceres::Problem and ceres::Covariance) must agree on the same least-squares problem.
+// A Huber loss whose scale no residual reaches is plain least squares but takes the general path.
+TEST(Fit, FastPathAgreesWithCeresProblemAndCovariance) {
+  std::mt19937_64 rng(31);
+  const RecoveryCase& c = kRecoveryCases[1];
+  const SpectrumInput input =
+      black_body(linspace(c.lo, c.hi, 400), c.x_unit, c.y_unit, c.temperature, c.scale, 0.02, &rng);
+  const Outcome fast = run(input);
+  PlanckFitOptions general_options;
+  general_options.loss = RobustLoss::kHuber;
+  general_options.loss_scale = 1e6;
+  const Outcome general = run(input, general_options);
+  ASSERT_TRUE(fast.fit.covariance_available && general.fit.covariance_available);
+  EXPECT_TRUE(RelativelyNear(fast.fit.temperature_k, general.fit.temperature_k, 1e-9));
+  EXPECT_TRUE(RelativelyNear(fast.fit.scale, general.fit.scale, 1e-8));
+  for (int i = 0; i < 4; ++i) {
+    EXPECT_TRUE(RelativelyNear(fast.fit.log_covariance[i], general.fit.log_covariance[i], 1e-6)) << i;
+  }
+}
+
 TEST(Fit, NoiselessSpectrumIsFitExactly) {
   // Source: the construction (noiseless data are the model at the truth).
   for (const RecoveryCase& c : kRecoveryCases) {
