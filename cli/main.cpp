@@ -5,11 +5,10 @@
 // Exit codes: 0 success, 2 bad input (a problem document), 3 an unexpected internal error.
 #include <CLI/CLI.hpp>
 
-#include <cstdio>
+#include <algorithm>
 #include <fstream>
 #include <iostream>
 #include <iterator>
-#include <nlohmann/json.hpp>
 #include <sstream>
 #include <string>
 #include <vector>
@@ -24,20 +23,14 @@ constexpr int kExitInternal = 3;
 
 struct FitArguments {
   std::string file;
-  planckton::api::TableRequestOptions table;
   std::string format = "auto";
-  std::string model = "planck";
-  std::vector<std::string> exclude;
-  std::string loss;
-  double loss_scale = 1.0;
-  std::string distance;
   bool compact = false;
+  // Table settings, by their api parameter names (see api/fit_service.h).
+  std::vector<std::string> exclude;
 };
 
 std::string read_input(const std::string& file) {
-  if (file == "-") {
-    return std::string(std::istreambuf_iterator<char>(std::cin), std::istreambuf_iterator<char>());
-  }
+  if (file == "-") return std::string(std::istreambuf_iterator<char>(std::cin), std::istreambuf_iterator<char>());
   std::ifstream in(file, std::ios::binary);
   if (!in) throw planckton::api::ProblemError(planckton::api::malformed_document("cannot open '" + file + "'"));
   std::ostringstream content;
@@ -51,58 +44,14 @@ bool looks_like_json(const std::string& text, const std::string& format) {
   return first != std::string::npos && text[first] == '{';
 }
 
-double parse_cli_number(const std::string& text, const std::string& what) {
-  try {
-    std::size_t used = 0;
-    const double value = std::stod(text, &used);
-    if (used == text.size()) return value;
-  } catch (const std::exception&) {
+planckton::api::TableParameters table_parameters(const FitArguments& args,
+                                                 const std::vector<std::pair<std::string, std::string*>>& flags) {
+  planckton::api::TableParameters parameters;
+  for (const auto& [name, value] : flags) {
+    if (!value->empty()) parameters.emplace_back(name, *value);
   }
-  throw planckton::api::ProblemError(planckton::api::invalid_argument(what + ": '" + text + "' is not a number"));
-}
-
-// The table's options, in the same members a JSON request carries.
-nlohmann::json table_request_members(const FitArguments& args) {
-  nlohmann::json extra = nlohmann::json::object();
-  extra["model"] = {{"kind", args.model}};
-  nlohmann::json options = nlohmann::json::object();
-  if (!args.loss.empty()) options["loss"] = {{"kind", args.loss}, {"scale", args.loss_scale}};
-  if (!args.distance.empty()) {
-    std::istringstream words(args.distance);
-    std::string value, unit;
-    words >> value >> unit;
-    options["distance"] = {{"value", parse_cli_number(value, "--distance")}, {"unit", unit.empty() ? "pc" : unit}};
-  }
-  if (!args.exclude.empty()) {
-    nlohmann::json ranges = nlohmann::json::array();
-    for (const std::string& range : args.exclude) {
-      const auto colon = range.find(':');
-      if (colon == std::string::npos) {
-        throw planckton::api::ProblemError(planckton::api::invalid_argument("--exclude takes LO:HI, got '" + range + "'"));
-      }
-      ranges.push_back({parse_cli_number(range.substr(0, colon), "--exclude"),
-                        parse_cli_number(range.substr(colon + 1), "--exclude")});
-    }
-    extra["spectrum"] = {{"exclude", ranges}};
-  }
-  if (!options.empty()) extra["options"] = options;
-  return extra;
-}
-
-int run_fit(const FitArguments& args) {
-  const std::string text = read_input(args.file);
-  nlohmann::ordered_json response;
-  if (looks_like_json(text, args.format)) {
-    response = planckton::api::fit_json_text(text);
-  } else {
-    if (args.table.x_unit.empty() || args.table.y_unit.empty()) {
-      throw planckton::api::ProblemError(planckton::api::invalid_argument(
-          "a table needs its units: give --x-unit and --y-unit (e.g. --x-unit nm --y-unit W/m2/nm)"));
-    }
-    response = planckton::api::fit_table_text(text, args.table, table_request_members(args));
-  }
-  std::cout << (args.compact ? response.dump() : response.dump(2)) << '\n';
-  return 0;
+  for (const std::string& range : args.exclude) parameters.emplace_back("exclude", range);
+  return parameters;
 }
 
 }  // namespace
@@ -113,18 +62,33 @@ int main(int argc, char** argv) {
   FitArguments args;
   CLI::App* fit = app.add_subcommand("fit", "Fit a spectrum given as a JSON request or a CSV/TSV/whitespace table");
   fit->add_option("file", args.file, "JSON request or table file ('-' reads standard input)")->required();
-  fit->add_option("--x-unit", args.table.x_unit, "unit of the table's spectral axis (nm, um, Angstrom, Hz, THz, cm-1, eV ...)");
-  fit->add_option("--y-unit", args.table.y_unit, "unit of the table's values (W/m2/nm, erg/s/cm2/Angstrom, Jy, W/m2/sr/nm ...)");
-  fit->add_option("--x-column", args.table.x_column, "table column of x: header name or 1-based index");
-  fit->add_option("--y-column", args.table.y_column, "table column of y: header name or 1-based index");
-  fit->add_option("--error-column", args.table.error_column, "table column of y_error: name, index, or 'none'");
   fit->add_option("--format", args.format, "input format")->check(CLI::IsMember({"auto", "json", "table"}));
-  fit->add_option("--model", args.model, "model kind for a table (planck)");
-  fit->add_option("--exclude", args.exclude, "for a table: mask the x range LO:HI (in --x-unit); repeatable");
-  fit->add_option("--loss", args.loss, "for a table: robust loss (none, huber, cauchy)");
-  fit->add_option("--loss-scale", args.loss_scale, "for a table: robust loss scale, in sigma");
-  fit->add_option("--distance", args.distance, "for a table: distance as 'VALUE UNIT', e.g. '120 pc'");
   fit->add_flag("--compact", args.compact, "print the response on one line");
+
+  // Each table flag carries the api parameter of the same name (--x-unit is x_unit ...).
+  const std::vector<std::pair<std::string, std::string>> kTableFlags = {
+      {"x_unit", "unit of the table's spectral axis (nm, um, Angstrom, Hz, THz, cm-1, eV ...)"},
+      {"y_unit", "unit of the table's values (W/m2/nm, erg/s/cm2/Angstrom, Jy, W/m2/sr/nm ...)"},
+      {"x_column", "table column of x: header name or 1-based index"},
+      {"y_column", "table column of y: header name or 1-based index"},
+      {"error_column", "table column of y_error: name, index, or 'none'"},
+      {"model", "model kind (planck)"},
+      {"loss", "robust loss: none, huber or cauchy"},
+      {"loss_scale", "robust loss scale, in units of sigma"},
+      {"distance", "distance as 'VALUE UNIT', e.g. '120 pc'"},
+      {"temperature_min", "lower temperature bound, K"},
+      {"temperature_max", "upper temperature bound, K"},
+      {"time_budget_seconds", "time budget of the fit, s"},
+  };
+  std::vector<std::string> values(kTableFlags.size());
+  std::vector<std::pair<std::string, std::string*>> flags;
+  for (std::size_t i = 0; i < kTableFlags.size(); ++i) {
+    std::string flag = "--" + kTableFlags[i].first;
+    std::replace(flag.begin(), flag.end(), '_', '-');
+    fit->add_option(flag, values[i], "for a table: " + kTableFlags[i].second);
+    flags.emplace_back(kTableFlags[i].first, &values[i]);
+  }
+  fit->add_option("--exclude", args.exclude, "for a table: mask the x range LO:HI (in --x-unit); repeatable");
 
   try {
     app.parse(argc, argv);
@@ -133,7 +97,12 @@ int main(int argc, char** argv) {
     return code == 0 ? 0 : kExitBadInput;
   }
   try {
-    return run_fit(args);
+    const std::string text = read_input(args.file);
+    const nlohmann::ordered_json response = looks_like_json(text, args.format)
+                                                ? planckton::api::fit_json_text(text)
+                                                : planckton::api::fit_table_text(text, table_parameters(args, flags));
+    std::cout << (args.compact ? response.dump() : response.dump(2)) << '\n';
+    return 0;
   } catch (const planckton::api::ProblemError& e) {
     std::cerr << "planckton: " << e.problem().one_line() << '\n';
     return kExitBadInput;

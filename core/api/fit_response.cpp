@@ -160,7 +160,10 @@ nlohmann::ordered_json make_fit_response(const FitRequest& request, const Measur
       {"provenance",
        {{"version", PLANCKTON_VERSION}, {"constants", constants::kSource}, {"solver", "Ceres Solver"}}},
   };
-  return response;
+  if (!request.id) return response;
+  json with_id = {{"id", *request.id}};
+  for (auto& [key, value] : response.items()) with_id[key] = std::move(value);
+  return with_id;
 }
 
 }  // namespace planckton::api

@@ -1,8 +1,8 @@
 #include "api/fit_service.h"
 
-#include <nlohmann/json.hpp>
+#include <charconv>
+#include <cmath>
 
-#include "api/fit_request.h"
 #include "api/fit_response.h"
 #include "api/problem.h"
 #include "science/input_error.h"
@@ -19,26 +19,15 @@ std::vector<std::string> accepted_for_field(const std::string& field) {
   return {};
 }
 
-// The nesting limit keeps a hostile document from exhausting the stack of the recursive parser.
-constexpr int kMaxNestingDepth = 64;
-
-bool nesting_within_limit(std::string_view text) {
-  int depth = 0;
-  bool in_string = false;
-  for (std::size_t i = 0; i < text.size(); ++i) {
-    const char c = text[i];
-    if (in_string) {
-      if (c == '\\') ++i;
-      else if (c == '"') in_string = false;
-    } else if (c == '"') {
-      in_string = true;
-    } else if (c == '[' || c == '{') {
-      if (++depth > kMaxNestingDepth) return false;
-    } else if (c == ']' || c == '}') {
-      --depth;
-    }
+void apply_limits(const ServiceLimits& limits, FitRequest& request) {
+  if (limits.max_points > 0 && request.spectrum.x.size() > limits.max_points) {
+    throw ProblemError(payload_too_large("the spectrum has " + std::to_string(request.spectrum.x.size()) +
+                                         " points; this service fits at most " + std::to_string(limits.max_points)));
   }
-  return true;
+  if (limits.max_time_budget_seconds > 0.0) {
+    double& budget = request.fit_options.time_budget_seconds;
+    budget = request.time_budget_given ? std::min(budget, limits.max_time_budget_seconds) : limits.max_time_budget_seconds;
+  }
 }
 
 // "/spectrum/{x,y,y_error}/<row>" -> the table line of that row; other pointers have no line.
@@ -54,59 +43,169 @@ std::optional<std::size_t> table_line_of(const std::string& pointer, const Table
   return std::nullopt;
 }
 
+// ---- table parameters ----------------------------------------------------------------------
+
+double parameter_number(const std::string& name, const std::string& text) {
+  double value = 0.0;
+  const char* begin = text.data();
+  const char* end = text.data() + text.size();
+  if (begin != end && *begin == '+') ++begin;
+  const auto [stop, error] = std::from_chars(begin, end, value);
+  if (begin == end || error != std::errc() || stop != end || !std::isfinite(value)) {
+    throw ProblemError(invalid_parameter(name, "'" + text + "' is not a finite number"));
+  }
+  return value;
+}
+
+nlohmann::json exclude_range(const std::string& text) {
+  const auto colon = text.find(':');
+  if (colon == std::string::npos) throw ProblemError(invalid_parameter("exclude", "takes LO:HI, got '" + text + "'"));
+  return nlohmann::json::array({parameter_number("exclude", text.substr(0, colon)),
+                                parameter_number("exclude", text.substr(colon + 1))});
+}
+
+nlohmann::json distance_member(const std::string& text) {
+  const auto space = text.find_first_of(" \t");
+  const std::string value = text.substr(0, space);
+  const std::string unit = space == std::string::npos ? "pc" : text.substr(text.find_first_not_of(" \t", space));
+  return {{"value", parameter_number("distance", value)}, {"unit", unit}};
+}
+
+struct TableSettings {
+  TableRequestOptions table;
+  nlohmann::json extra = nlohmann::json::object();
+};
+
+TableSettings table_settings(const TableParameters& parameters) {
+  TableSettings settings;
+  nlohmann::json& options = settings.extra["options"];
+  options = nlohmann::json::object();
+  std::optional<double> t_min, t_max;
+  for (const auto& [name, value] : parameters) {
+    if (name == "x_unit") settings.table.x_unit = value;
+    else if (name == "y_unit") settings.table.y_unit = value;
+    else if (name == "x_column") settings.table.x_column = value;
+    else if (name == "y_column") settings.table.y_column = value;
+    else if (name == "error_column") settings.table.error_column = value;
+    else if (name == "model") settings.extra["model"] = {{"kind", value}};
+    else if (name == "loss") options["loss"]["kind"] = value;
+    else if (name == "loss_scale") options["loss"]["scale"] = parameter_number(name, value);
+    else if (name == "exclude") settings.extra["spectrum"]["exclude"].push_back(exclude_range(value));
+    else if (name == "distance") options["distance"] = distance_member(value);
+    else if (name == "temperature_min") t_min = parameter_number(name, value);
+    else if (name == "temperature_max") t_max = parameter_number(name, value);
+    else if (name == "time_budget_seconds") options["time_budget_seconds"] = parameter_number(name, value);
+    else throw ProblemError(invalid_parameter(name, "is not a known parameter", table_parameter_names()));
+  }
+  if (settings.table.x_unit.empty()) throw ProblemError(invalid_parameter("x_unit", "is required for a table", documented_spectral_axis_units()));
+  if (settings.table.y_unit.empty()) throw ProblemError(invalid_parameter("y_unit", "is required for a table", documented_flux_density_units()));
+  if (options.contains("loss") && !options["loss"].contains("kind")) {
+    throw ProblemError(invalid_parameter("loss_scale", "needs loss (huber or cauchy)"));
+  }
+  if (t_min || t_max) {
+    const PlanckFitOptions defaults;
+    options["temperature_bounds"] = {t_min.value_or(defaults.min_temperature_k), t_max.value_or(defaults.max_temperature_k)};
+  }
+  return settings;
+}
+
+// The parameter a request-document pointer came from, for problems with a table's settings.
+std::optional<std::string> parameter_of(const std::string& pointer) {
+  static const std::vector<std::pair<std::string, std::string>> kPrefixes = {
+      {"/spectrum/x_unit", "x_unit"}, {"/spectrum/y_unit", "y_unit"}, {"/spectrum/exclude", "exclude"},
+      {"/model", "model"}, {"/options/loss/scale", "loss_scale"}, {"/options/loss", "loss"},
+      {"/options/distance", "distance"}, {"/options/temperature_bounds/0", "temperature_min"},
+      {"/options/temperature_bounds/1", "temperature_max"}, {"/options/temperature_bounds", "temperature_min"},
+      {"/options/time_budget_seconds", "time_budget_seconds"}};
+  for (const auto& [prefix, name] : kPrefixes) {
+    if (pointer.rfind(prefix, 0) == 0) return name;
+  }
+  return std::nullopt;
+}
+
 }  // namespace
 
-nlohmann::ordered_json fit_document(const nlohmann::json& document) {
-  const FitRequest request = parse_fit_request(document);
+nlohmann::ordered_json fit(FitRequest request, const ServiceLimits& limits) {
+  apply_limits(limits, request);
   try {
     const MeasuredSpectrum spectrum = prepare_spectrum(request.spectrum);
-    const PlanckFitResult fit = fit_planck(spectrum, request.fit_options);
+    const PlanckFitResult result = fit_planck(spectrum, request.fit_options);
     std::optional<Distance> distance;
     if (request.distance) {
       distance = Distance{request.distance->value * parse_length_unit(request.distance->unit),
                           request.distance->error / request.distance->value};
     }
-    const DerivedQuantities derived = derive_quantities(fit, spectrum.y_unit, distance);
-    return make_fit_response(request, spectrum, fit, derived);
+    const DerivedQuantities derived = derive_quantities(result, spectrum.y_unit, distance);
+    return make_fit_response(request, spectrum, result, derived);
   } catch (const InputError& e) {
     throw ProblemError(invalid_value(pointer_for_field(e.field(), e.index()), e.what(), accepted_for_field(e.field())));
   }
 }
 
-nlohmann::ordered_json fit_json_text(std::string_view text) {
-  if (!nesting_within_limit(text)) {
-    throw ProblemError(malformed_document("the JSON nests deeper than " + std::to_string(kMaxNestingDepth) + " levels"));
-  }
-  nlohmann::json document;
-  try {
-    document = nlohmann::json::parse(text.begin(), text.end());
-  } catch (const nlohmann::json::out_of_range& e) {
-    // nlohmann reports a number beyond the range of a double (e.g. 1e999) this way.
-    throw ProblemError(malformed_document(std::string("the body holds a number a double cannot represent: ") + e.what()));
-  } catch (const nlohmann::json::exception& e) {
-    throw ProblemError(malformed_document(std::string("the body is not valid JSON: ") + e.what()));
-  }
-  return fit_document(document);
+nlohmann::ordered_json fit_json_text(std::string_view text, const ServiceLimits& limits) {
+  return fit(parse_fit_request(text), limits);
+}
+
+nlohmann::ordered_json fit_document(const nlohmann::json& document, const ServiceLimits& limits) {
+  return fit(parse_fit_request(document), limits);
 }
 
 nlohmann::ordered_json fit_table_text(std::string_view text, const TableRequestOptions& options,
-                              const nlohmann::json& extra_request_members) {
+                                      const nlohmann::json& extra_request_members, const ServiceLimits& limits) {
   const Table table = read_table(text);
-  nlohmann::json request = table_to_request(table, options);
-  for (const auto& [key, value] : extra_request_members.items()) {
-    if (key == "spectrum" && value.is_object()) {
-      for (const auto& [member, content] : value.items()) request["spectrum"][member] = content;
-    } else {
-      request[key] = value;
-    }
-  }
+  FitRequest request;
+  request.spectrum = table_to_spectrum(table, options);
   try {
-    return fit_document(request);
+    if (!extra_request_members.empty()) apply_request_members(extra_request_members.dump(), request);
+    return fit(std::move(request), limits);
   } catch (ProblemError& e) {
     Problem& problem = e.problem();
     if (problem.pointer) problem.line = table_line_of(*problem.pointer, table);
     throw;
   }
+}
+
+nlohmann::ordered_json fit_table_text(std::string_view text, const TableParameters& parameters,
+                                      const ServiceLimits& limits) {
+  const TableSettings settings = table_settings(parameters);
+  try {
+    return fit_table_text(text, settings.table, settings.extra, limits);
+  } catch (ProblemError& e) {
+    Problem& problem = e.problem();
+    if (problem.pointer && !problem.line) {
+      if (auto parameter = parameter_of(*problem.pointer)) {
+        problem.parameter = std::move(parameter);
+        problem.pointer.reset();
+      }
+    }
+    throw;
+  }
+}
+
+const std::vector<std::string>& table_parameter_names() {
+  static const std::vector<std::string> kNames = {
+      "x_unit", "y_unit", "x_column", "y_column", "error_column", "model", "loss", "loss_scale",
+      "exclude", "distance", "temperature_min", "temperature_max", "time_budget_seconds"};
+  return kNames;
+}
+
+nlohmann::ordered_json fit_batch_line(std::string_view line, std::size_t index, const ServiceLimits& limits) {
+  nlohmann::ordered_json out;
+  out["index"] = index;
+  std::optional<nlohmann::ordered_json> id;
+  try {
+    FitRequest request = parse_fit_request(line);
+    id = request.id;
+    nlohmann::ordered_json response = fit(std::move(request), limits);
+    if (id) out["id"] = *id;
+    out["status"] = 200;
+    out["response"] = std::move(response);
+  } catch (const ProblemError& e) {
+    if (id) out["id"] = *id;
+    out["status"] = e.problem().status;
+    out["problem"] = e.problem().to_json();
+  }
+  return out;
 }
 
 }  // namespace planckton::api

@@ -1,26 +1,54 @@
-// The fit, from request document to response document: what POST /v1/fit and `planckton fit` do.
+// The fit, from request to response document: what POST /v1/fit, POST /v1/fit/batch and
+// `planckton fit` do.
 //
-// Both front ends call these and only these, so the CLI and the service answer the same document
+// Every front end calls these and only these, so the CLI and the service answer the same document
 // for the same input. Bad input throws ProblemError; nothing else is expected to escape.
 #pragma once
 
+#include <cstddef>
+#include <string>
 #include <string_view>
+#include <utility>
+#include <vector>
 
-#include <nlohmann/json_fwd.hpp>
+#include <nlohmann/json.hpp>
 
+#include "api/fit_request.h"
 #include "api/table_reader.h"
 
 namespace planckton::api {
 
-// JSON request document -> JSON response document.
-nlohmann::ordered_json fit_document(const nlohmann::json& request);
+// What a service allows one request (0 = no limit).
+struct ServiceLimits {
+  std::size_t max_points = 0;
+  double max_time_budget_seconds = 0.0;  // a request may ask for less, never more
+};
 
-// Request text (JSON) -> response; malformed JSON becomes a 400 problem.
-nlohmann::ordered_json fit_json_text(std::string_view text);
+// A parsed request -> the response document.
+nlohmann::ordered_json fit(FitRequest request, const ServiceLimits& limits = {});
+
+// Request text (JSON) -> response; malformed JSON is a 400 problem.
+nlohmann::ordered_json fit_json_text(std::string_view text, const ServiceLimits& limits = {});
+
+// A request document already in memory (tests, tools).
+nlohmann::ordered_json fit_document(const nlohmann::json& document, const ServiceLimits& limits = {});
 
 // A table with its units -> response; problems with a row carry the table's line number.
-// extra_request_members are merged into the request (members of "spectrum" into the spectrum).
+// extra_request_members are applied as in a JSON request (model, options, id, spectrum.exclude).
 nlohmann::ordered_json fit_table_text(std::string_view text, const TableRequestOptions& options,
-                              const nlohmann::json& extra_request_members);
+                                      const nlohmann::json& extra_request_members, const ServiceLimits& limits = {});
+
+// A table with its settings as named text parameters, as query parameters (HTTP) or flags (CLI)
+// give them: x_unit, y_unit, x_column, y_column, error_column, model, loss, loss_scale, exclude
+// (LO:HI, repeatable), distance ("VALUE UNIT"), temperature_min, temperature_max,
+// time_budget_seconds. Problems with a parameter name it.
+using TableParameters = std::vector<std::pair<std::string, std::string>>;
+nlohmann::ordered_json fit_table_text(std::string_view text, const TableParameters& parameters,
+                                      const ServiceLimits& limits = {});
+const std::vector<std::string>& table_parameter_names();
+
+// One line of a batch (NDJSON): {"index", "id" (if given), "status", "response" | "problem"}.
+// Never throws for bad input: a bad line is answered with its problem.
+nlohmann::ordered_json fit_batch_line(std::string_view line, std::size_t index, const ServiceLimits& limits = {});
 
 }  // namespace planckton::api

@@ -2,7 +2,8 @@
 //
 // The members are RFC 9457's type, title, status and detail, plus the extension members planckton
 // adds: `pointer` (RFC 6901 JSON pointer to the offending value of the request document), `line`
-// (for tables: the 1-based line of the offending value) and `accepted` (what would have been
+// (for tables: the 1-based line of the offending value), `parameter` (a query parameter or flag) and
+// `accepted` (what would have been
 // accepted, e.g. the unit spellings).
 #pragma once
 
@@ -23,6 +24,7 @@ struct Problem {
   std::string detail;
   std::optional<std::string> pointer;  // "" is the whole document (RFC 6901); absent: not about one value
   std::optional<std::size_t> line;
+  std::optional<std::string> parameter;  // the query parameter or command-line flag at fault
   std::vector<std::string> accepted;
 
   nlohmann::ordered_json to_json() const;
@@ -46,6 +48,12 @@ Problem invalid_value(std::optional<std::string> pointer, std::string detail, st
 // A problem with the way a front end was called (a flag, a table column), not with a document value.
 Problem invalid_argument(std::string detail, std::vector<std::string> accepted = {});
 Problem unsupported_feature(std::string pointer, std::string detail, std::vector<std::string> accepted = {});
-Problem fit_failed(std::string detail);
+Problem invalid_parameter(std::string parameter, std::string detail, std::vector<std::string> accepted = {});
+Problem payload_too_large(std::string detail);
+Problem unsupported_media_type(std::string detail, std::vector<std::string> accepted);
+Problem not_found(std::string detail);
+Problem method_not_allowed(std::string detail, std::vector<std::string> allowed);
+Problem unauthorized();
+Problem internal_error();
 
 }  // namespace planckton::api

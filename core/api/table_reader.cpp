@@ -83,8 +83,6 @@ std::optional<std::size_t> find_named(const Table& table, std::initializer_list<
   return std::nullopt;
 }
 
-nlohmann::json column_json(const Table& table, std::size_t column) { return nlohmann::json(table.columns[column]); }
-
 }  // namespace
 
 Table read_table(std::string_view text) {
@@ -130,7 +128,7 @@ Table read_table(std::string_view text) {
   return table;
 }
 
-nlohmann::json table_to_request(const Table& table, const TableRequestOptions& options) {
+SpectrumInput table_to_spectrum(const Table& table, const TableRequestOptions& options) {
   const std::size_t x = find_column(table, options.x_column, "x").value_or(find_named(table, {"x"}).value_or(0));
   const std::size_t y = find_column(table, options.y_column, "y").value_or(find_named(table, {"y"}).value_or(1));
   std::optional<std::size_t> error;
@@ -139,9 +137,19 @@ nlohmann::json table_to_request(const Table& table, const TableRequestOptions& o
     if (!error) error = find_named(table, {"y_error", "error", "err", "sigma"});
     if (!error && table.columns.size() >= 3 && x != 2 && y != 2) error = 2;
   }
-  nlohmann::json spectrum = {{"x", column_json(table, x)}, {"x_unit", options.x_unit},
-                             {"y", column_json(table, y)}, {"y_unit", options.y_unit}};
-  if (error) spectrum["y_error"] = column_json(table, *error);
+  SpectrumInput spectrum;
+  spectrum.x = table.columns[x];
+  spectrum.x_unit = options.x_unit;
+  spectrum.y = table.columns[y];
+  spectrum.y_unit = options.y_unit;
+  if (error) spectrum.y_error = table.columns[*error];
+  return spectrum;
+}
+
+nlohmann::json table_to_request(const Table& table, const TableRequestOptions& options) {
+  const SpectrumInput s = table_to_spectrum(table, options);
+  nlohmann::json spectrum = {{"x", s.x}, {"x_unit", s.x_unit}, {"y", s.y}, {"y_unit", s.y_unit}};
+  if (!s.y_error.empty()) spectrum["y_error"] = s.y_error;
   return {{"spectrum", spectrum}};
 }
 

@@ -14,6 +14,8 @@
 
 #include <nlohmann/json_fwd.hpp>
 
+#include "science/spectrum.h"
+
 namespace planckton::api {
 
 struct Table {
@@ -33,7 +35,10 @@ struct TableRequestOptions {
   std::string error_column;  // "none" = no errors even if a third column exists
 };
 
-// Builds the JSON request document for a table: {"spectrum": {x, x_unit, y, y_unit[, y_error]}}.
+// The table's spectrum, with the columns and units chosen by the options.
+SpectrumInput table_to_spectrum(const Table& table, const TableRequestOptions& options);
+
+// The same as a JSON request document: {"spectrum": {x, x_unit, y, y_unit[, y_error]}}.
 nlohmann::json table_to_request(const Table& table, const TableRequestOptions& options);
 
 }  // namespace planckton::api

@@ -27,7 +27,7 @@ def with_change(path, value):
 
 cases = [
     ("malformed JSON", "{\"spectrum\": [", "not valid JSON"),
-    ("empty document", "", "needs its units"),
+    ("empty document", "", "x_unit is required"),
     ("unknown x unit", with_change(["spectrum", "x_unit"], "furlong"), "/spectrum/x_unit"),
     ("unknown y unit", with_change(["spectrum", "y_unit"], "W/m2"), "/spectrum/y_unit"),
     ("string in y", with_change(["spectrum", "y"], [1, 2, "three", 4, 5]), "/spectrum/y/2"),
@@ -50,7 +50,7 @@ for name, body, expected in cases:
                  f"exit {code}, stderr: {err.strip()[:160]}")
 
 table_cases = [
-    ("table without units", "400,1\n500,2\n600,1\n", [], "needs its units"),
+    ("table without units", "400,1\n500,2\n600,1\n", [], "x_unit is required"),
     ("bad number in a table", "# comment\nx,y\n400,1\n500,abc\n600,1\n", ["--x-unit", "nm", "--y-unit", "Jy"], "line 4"),
     ("NaN in a table", "400 1\n500 nan\n600 1\n", ["--x-unit", "nm", "--y-unit", "Jy"], "line 2"),
     ("ragged table", "400,1,0.1\n500,2\n", ["--x-unit", "nm", "--y-unit", "Jy"], "line 2"),
