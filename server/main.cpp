@@ -1,0 +1,88 @@
+// planckton-server: the HTTP front end. It only carries requests (routes.cpp) to the api layer.
+//
+// Binds to loopback by default. SIGTERM and SIGINT stop accepting connections, let the requests in
+// flight finish (a streaming batch included), and exit 0.
+#include <httplib.h>
+#include <malloc.h>
+#include <pthread.h>
+
+#include <csignal>
+#include <iostream>
+#include <nlohmann/json.hpp>
+#include <thread>
+
+#include "api_keys.h"
+#include "metrics.h"
+#include "routes.h"
+#include "server_config.h"
+
+namespace {
+
+void log_line(const nlohmann::ordered_json& line) { std::cerr << line.dump() << std::endl; }
+
+bool is_loopback(const std::string& address) {
+  return address == "localhost" || address == "::1" || address.rfind("127.", 0) == 0;
+}
+
+}  // namespace
+
+int main(int argc, char** argv) {
+  using namespace planckton::server;
+  const ServerConfig config = load_config(argc, argv);
+
+  // Signals are taken by one thread (sigwait below), not by whichever thread they interrupt.
+  sigset_t stop_signals;
+  sigemptyset(&stop_signals);
+  sigaddset(&stop_signals, SIGTERM);
+  sigaddset(&stop_signals, SIGINT);
+  pthread_sigmask(SIG_BLOCK, &stop_signals, nullptr);
+  std::signal(SIGPIPE, SIG_IGN);  // a client that goes away is an error on its socket, not a crash
+
+  // Keep freed memory for the next request instead of returning and re-faulting it (glibc mallopt(3)).
+  mallopt(M_TRIM_THRESHOLD, 256 << 20);
+  mallopt(M_MMAP_THRESHOLD, 64 << 20);
+
+  httplib::Server server;
+  server.new_task_queue = [threads = config.threads] { return new httplib::ThreadPool(static_cast<std::size_t>(threads)); };
+  server.set_payload_max_length(config.max_body_bytes);
+  server.set_keep_alive_max_count(config.keep_alive_max);
+  server.set_keep_alive_timeout(config.keep_alive_timeout_seconds);
+  server.set_read_timeout(config.read_timeout_seconds, 0);
+  server.set_write_timeout(config.read_timeout_seconds, 0);
+
+  Metrics metrics;
+  const ApiKeys keys(config.api_keys);
+  install_routes(server, config, metrics, keys);
+
+  int port = config.port;
+  if (port == 0) {
+    port = server.bind_to_any_port(config.bind);
+  } else if (!server.bind_to_port(config.bind, port)) {
+    port = -1;
+  }
+  if (port < 0) {
+    log_line({{"event", "error"}, {"detail", "cannot listen on " + config.bind + ":" + std::to_string(config.port)}});
+    return 1;
+  }
+  if (!is_loopback(config.bind) && !keys.enabled()) {
+    log_line({{"event", "warning"},
+              {"detail", "listening beyond loopback without API keys: anyone who can reach this address can use "
+                         "the service; configure PLANCKTON_API_KEYS or --api-keys-file"}});
+  }
+  log_line({{"event", "listening"}, {"address", config.bind}, {"port", port}, {"threads", config.threads},
+            {"auth", keys.enabled() ? "api_keys" : "off"}});
+
+  std::thread stopper([&server, &stop_signals] {
+    int signal = 0;
+    sigwait(&stop_signals, &signal);
+    log_line({{"event", "stopping"}, {"signal", signal == SIGTERM ? "SIGTERM" : "SIGINT"}});
+    server.stop();
+  });
+  const bool listened = server.listen_after_bind();
+  if (!listened && server.is_running()) {
+    log_line({{"event", "error"}, {"detail", "the listening socket failed"}});
+  }
+  stopper.join();
+  log_line({{"event", "stopped"}});
+  return 0;
+}

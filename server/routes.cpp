@@ -1,0 +1,335 @@
+#include "routes.h"
+
+#include <algorithm>
+#include <chrono>
+#include <cstdio>
+#include <ctime>
+#include <iostream>
+#include <memory>
+#include <mutex>
+#include <optional>
+#include <string_view>
+
+#include "api/catalogue.h"
+#include "api/fit_service.h"
+#include "api/problem.h"
+
+namespace planckton {
+// openapi/openapi.yaml, embedded at build time (cmake/embed_text.cmake).
+extern const std::string_view kOpenApiYaml;
+}  // namespace planckton
+
+namespace planckton::server {
+
+namespace {
+
+using Clock = std::chrono::steady_clock;
+using api::Problem;
+using api::ProblemError;
+
+struct Route {
+  std::string_view path;
+  std::vector<std::string> methods;
+};
+
+const std::vector<Route>& known_routes() {
+  static const std::vector<Route> kRoutes = {
+      {"/v1/fit", {"POST"}},        {"/v1/fit/batch", {"POST"}}, {"/v1/models", {"GET"}},
+      {"/v1/units", {"GET"}},       {"/v1/health", {"GET"}},     {"/metrics", {"GET"}},
+      {"/openapi.yaml", {"GET"}},
+  };
+  return kRoutes;
+}
+
+const Route* find_route(const std::string& path) {
+  for (const Route& route : known_routes()) {
+    if (route.path == path) return &route;
+  }
+  return nullptr;
+}
+
+std::string joined(const std::vector<std::string>& items, const char* separator) {
+  std::string out;
+  for (const auto& item : items) out += (out.empty() ? "" : separator) + item;
+  return out;
+}
+
+// The media type of a Content-Type header, lower case, without parameters.
+std::string media_type(const httplib::Request& request) {
+  std::string type = request.get_header_value("Content-Type");
+  type = type.substr(0, type.find(';'));
+  type.erase(std::remove_if(type.begin(), type.end(), [](unsigned char c) { return std::isspace(c); }), type.end());
+  std::transform(type.begin(), type.end(), type.begin(), [](unsigned char c) { return std::tolower(c); });
+  return type;
+}
+
+void send_problem(httplib::Response& response, const Problem& problem) {
+  response.status = problem.status;
+  if (problem.status == 401) response.set_header("WWW-Authenticate", "Bearer");
+  if (problem.status == 405) response.set_header("Allow", joined(problem.accepted, ", "));
+  response.set_content(problem.to_json().dump(), "application/problem+json");
+}
+
+void send_json(httplib::Response& response, const nlohmann::ordered_json& document) {
+  response.status = 200;
+  response.set_content(document.dump(), "application/json");
+}
+
+// Per worker thread: when the request being answered started (set before routing, read by the
+// access log).
+thread_local std::optional<Clock::time_point> request_started;
+
+std::string utc_timestamp() {
+  const auto now = std::chrono::system_clock::now();
+  const std::time_t seconds = std::chrono::system_clock::to_time_t(now);
+  const auto millis = std::chrono::duration_cast<std::chrono::milliseconds>(now.time_since_epoch()).count() % 1000;
+  std::tm utc{};
+  gmtime_r(&seconds, &utc);
+  char text[96];
+  std::snprintf(text, sizeof text, "%04d-%02d-%02dT%02d:%02d:%02d.%03dZ", utc.tm_year + 1900, utc.tm_mon + 1,
+                utc.tm_mday, utc.tm_hour, utc.tm_min, utc.tm_sec, static_cast<int>(millis));
+  return text;
+}
+
+class Routes {
+ public:
+  Routes(const ServerConfig& config, Metrics& metrics, const ApiKeys& keys)
+      : config_(config), metrics_(metrics), keys_(keys),
+        limits_{config.max_points, config.time_budget_seconds} {}
+
+  // Runs a handler; a ProblemError becomes its problem document, anything else a 500 (a defect).
+  template <typename Handler>
+  void answer(const httplib::Request& request, httplib::Response& response, Handler&& handler) {
+    try {
+      handler(request, response);
+    } catch (const ProblemError& e) {
+      if (is_fit_route(request.path)) count_failed_input(e.problem());
+      send_problem(response, e.problem());
+    } catch (const std::exception& e) {
+      log_event("internal_error", e.what());
+      send_problem(response, api::internal_error());
+    }
+  }
+
+  void fit(const httplib::Request& request, httplib::Response& response) {
+    const std::string type = media_type(request);
+    nlohmann::ordered_json document;
+    if (type == "application/json") {
+      if (!request.params.empty()) {
+        throw ProblemError(api::invalid_parameter(request.params.begin()->first,
+                                                  "query parameters apply to tables only; put the settings in the "
+                                                  "JSON request's model and options"));
+      }
+      document = api::fit_json_text(request.body, limits_);
+    } else if (type == "text/csv" || type == "text/tab-separated-values" || type == "text/plain") {
+      api::TableParameters parameters(request.params.begin(), request.params.end());
+      document = api::fit_table_text(request.body, parameters, limits_);
+    } else {
+      throw ProblemError(api::unsupported_media_type(
+          "POST /v1/fit takes a JSON request (Content-Type: application/json) or a table (text/csv, "
+          "text/tab-separated-values or text/plain with x_unit and y_unit query parameters); got '" +
+              (type.empty() ? std::string("no Content-Type") : type) + "'",
+          {"application/json", "text/csv", "text/tab-separated-values", "text/plain"}));
+    }
+    count_fit(document);
+    send_json(response, document);
+  }
+
+  void batch(const httplib::Request& request, httplib::Response& response) {
+    const std::string type = media_type(request);
+    if (type != "application/x-ndjson" && type != "application/jsonl") {
+      throw ProblemError(api::unsupported_media_type(
+          "POST /v1/fit/batch takes one JSON request per line (Content-Type: application/x-ndjson); got '" +
+              (type.empty() ? std::string("no Content-Type") : type) + "'",
+          {"application/x-ndjson", "application/jsonl"}));
+    }
+    auto state = std::make_shared<BatchState>();
+    state->body = request.body;
+    split_lines(*state);
+    if (state->lines.size() > config_.max_batch_lines) {
+      throw ProblemError(api::payload_too_large("the batch has " + std::to_string(state->lines.size()) +
+                                                " requests; this service takes at most " +
+                                                std::to_string(config_.max_batch_lines) + " per batch"));
+    }
+    // Streamed: each line is written as soon as its fit is done, in input order.
+    response.set_chunked_content_provider("application/x-ndjson", [this, state](std::size_t, httplib::DataSink& sink) {
+      if (state->next == state->lines.size()) {
+        sink.done();
+        return true;
+      }
+      const auto [index, offset, length] = state->lines[state->next++];
+      const nlohmann::ordered_json line =
+          api::fit_batch_line(std::string_view(state->body).substr(offset, length), index, limits_);
+      count_batch_line(line);
+      const std::string text = line.dump() + "\n";
+      return sink.write(text.data(), text.size());
+    });
+  }
+
+  // Before routing: unknown paths, wrong methods, CORS preflight, API keys.
+  httplib::Server::HandlerResponse before_routing(const httplib::Request& request, httplib::Response& response) {
+    request_started = Clock::now();
+    const Route* route = find_route(request.path);
+    if (route == nullptr) {
+      send_problem(response, api::not_found("no endpoint at " + request.path + "; see GET /openapi.yaml"));
+      return httplib::Server::HandlerResponse::Handled;
+    }
+    if (request.method == "OPTIONS" && cors_origin(request)) {
+      response.status = 204;
+      response.set_header("Access-Control-Allow-Methods", joined(route->methods, ", "));
+      response.set_header("Access-Control-Allow-Headers", "Authorization, Content-Type");
+      response.set_header("Access-Control-Max-Age", "600");
+      return httplib::Server::HandlerResponse::Handled;
+    }
+    if (std::find(route->methods.begin(), route->methods.end(), request.method) == route->methods.end()) {
+      send_problem(response, api::method_not_allowed(request.path + " takes " + joined(route->methods, ", "), route->methods));
+      return httplib::Server::HandlerResponse::Handled;
+    }
+    if (keys_.enabled() && request.path != "/v1/health" && !keys_.accepts(request.get_header_value("Authorization"))) {
+      send_problem(response, api::unauthorized());
+      return httplib::Server::HandlerResponse::Handled;
+    }
+    return httplib::Server::HandlerResponse::Unhandled;
+  }
+
+  void after_routing(const httplib::Request& request, httplib::Response& response) {
+    if (const auto origin = cors_origin(request)) {
+      response.set_header("Access-Control-Allow-Origin", *origin);
+      response.set_header("Vary", "Origin");
+    }
+  }
+
+  // Statuses httplib sets itself (a body over the limit, a malformed request line ...) get a
+  // problem document too.
+  void on_error(const httplib::Request&, httplib::Response& response) {
+    if (!response.body.empty()) return;
+    Problem problem;
+    if (response.status == 413) {
+      problem = api::payload_too_large("the body is larger than this service's limit of " +
+                                       std::to_string(config_.max_body_bytes) + " bytes");
+    } else if (response.status == 404) {
+      problem = api::not_found("no endpoint at this path; see GET /openapi.yaml");
+    } else {
+      problem = api::malformed_document("the HTTP request could not be read");
+      problem.status = response.status;
+    }
+    send_problem(response, problem);
+  }
+
+  void access_log(const httplib::Request& request, const httplib::Response& response) {
+    double seconds = 0.0;
+    if (request_started) seconds = std::chrono::duration<double>(Clock::now() - *request_started).count();
+    request_started.reset();
+    const std::string route = find_route(request.path) != nullptr ? request.path : "unmatched";
+    metrics_.record_request(route, response.status, seconds);
+    // No bodies, no headers (so never a key), only what an operator needs.
+    const nlohmann::ordered_json line = {
+        {"event", "request"},       {"time", utc_timestamp()},         {"method", request.method},
+        {"path", request.path},     {"status", response.status},       {"duration_ms", seconds * 1e3},
+        {"request_bytes", request.body.size()}, {"response_bytes", response.body.size()},
+        {"remote", request.remote_addr}};
+    write_log_line(line.dump());
+  }
+
+  void log_event(const char* event, const std::string& detail) {
+    write_log_line(nlohmann::ordered_json{{"event", event}, {"time", utc_timestamp()}, {"detail", detail}}.dump());
+  }
+
+  const api::ServiceLimits& limits() const { return limits_; }
+  Metrics& metrics() { return metrics_; }
+
+ private:
+  struct BatchLine {
+    std::size_t index, offset, length;
+  };
+  struct BatchState {
+    std::string body;
+    std::vector<BatchLine> lines;
+    std::size_t next = 0;
+  };
+
+  // Non-blank lines with their 0-based line numbers.
+  static void split_lines(BatchState& state) {
+    std::size_t start = 0, index = 0;
+    const std::string_view body = state.body;
+    while (start <= body.size()) {
+      std::size_t end = body.find('\n', start);
+      if (end == std::string_view::npos) end = body.size();
+      std::string_view line = body.substr(start, end - start);
+      if (line.find_first_not_of(" \t\r") != std::string_view::npos) state.lines.push_back({index, start, line.size()});
+      start = end + 1;
+      ++index;
+    }
+  }
+
+  std::optional<std::string> cors_origin(const httplib::Request& request) const {
+    if (config_.cors_origins.empty() || !request.has_header("Origin")) return std::nullopt;
+    const std::string origin = request.get_header_value("Origin");
+    const auto& allowed = config_.cors_origins;
+    if (std::find(allowed.begin(), allowed.end(), origin) == allowed.end()) return std::nullopt;
+    return origin;
+  }
+
+  static bool is_fit_route(const std::string& path) { return path == "/v1/fit" || path == "/v1/fit/batch"; }
+
+  void count_fit(const nlohmann::ordered_json& document) {
+    metrics_.record_fit(document.value("model", std::string("planck")));
+    if (document.value("status", std::string()) != "converged") metrics_.record_failed_fit("not_converged");
+  }
+
+  void count_failed_input(const Problem& problem) {
+    if (problem.status == 400 || problem.status == 413 || problem.status == 422) metrics_.record_failed_fit("invalid_input");
+  }
+
+  void count_batch_line(const nlohmann::ordered_json& line) {
+    if (line.contains("response")) {
+      count_fit(line["response"]);
+    } else {
+      metrics_.record_failed_fit("invalid_input");
+    }
+  }
+
+  void write_log_line(const std::string& line) {
+    const std::lock_guard lock(log_mutex_);
+    std::cerr << line << '\n';
+  }
+
+  const ServerConfig& config_;
+  Metrics& metrics_;
+  const ApiKeys& keys_;
+  api::ServiceLimits limits_;
+  std::mutex log_mutex_;
+};
+
+}  // namespace
+
+void install_routes(httplib::Server& server, const ServerConfig& config, Metrics& metrics, const ApiKeys& keys) {
+  // Shared by every handler, so it lives as long as the server's handlers do.
+  const auto routes = std::make_shared<Routes>(config, metrics, keys);
+  const auto handle = [routes](void (Routes::*method)(const httplib::Request&, httplib::Response&)) {
+    return [routes, method](const httplib::Request& request, httplib::Response& response) {
+      routes->answer(request, response, [&](const httplib::Request& q, httplib::Response& r) { ((*routes).*method)(q, r); });
+    };
+  };
+  server.Post("/v1/fit", handle(&Routes::fit));
+  server.Post("/v1/fit/batch", handle(&Routes::batch));
+  server.Get("/v1/models", [](const httplib::Request&, httplib::Response& r) { send_json(r, api::models_document()); });
+  server.Get("/v1/units", [](const httplib::Request&, httplib::Response& r) { send_json(r, api::units_document()); });
+  server.Get("/v1/health", [](const httplib::Request&, httplib::Response& r) { send_json(r, api::health_document()); });
+  server.Get("/metrics", [routes](const httplib::Request&, httplib::Response& r) {
+    r.set_content(routes->metrics().exposition(), "text/plain; version=0.0.4; charset=utf-8");
+  });
+  server.Get("/openapi.yaml", [](const httplib::Request&, httplib::Response& r) {
+    r.set_content(std::string(kOpenApiYaml), "application/yaml");
+  });
+  server.set_pre_routing_handler([routes](const httplib::Request& q, httplib::Response& r) { return routes->before_routing(q, r); });
+  server.set_post_routing_handler([routes](const httplib::Request& q, httplib::Response& r) { routes->after_routing(q, r); });
+  server.set_error_handler([routes](const httplib::Request& q, httplib::Response& r) { routes->on_error(q, r); });
+  server.set_exception_handler([routes](const httplib::Request&, httplib::Response& r, std::exception_ptr) {
+    routes->log_event("internal_error", "unhandled exception");
+    send_problem(r, api::internal_error());
+  });
+  server.set_logger([routes](const httplib::Request& q, const httplib::Response& r) { routes->access_log(q, r); });
+}
+
+}  // namespace planckton::server
