@@ -6,6 +6,7 @@
 #include <Eigen/Dense>
 
 #include <algorithm>
+#include <chrono>
 #include <boost/math/special_functions/gamma.hpp>
 #include <cmath>
 #include <memory>
@@ -378,35 +379,46 @@ struct SolveOutcome {
 #pragma GCC diagnostic push
 #pragma GCC diagnostic ignored "-Wmaybe-uninitialized"
 // Fast path for plain least squares: ceres::TinySolver, Ceres' Levenberg-Marquardt for small dense
-// problems, without the set-up cost of a ceres::Problem. Bounded by the iteration budget.
+// problems, without the set-up cost of a ceres::Problem. It has no clock of its own, so it runs in
+// rounds of kIterationsPerRound and the time budget is checked between rounds.
 SolveOutcome solve_small_dense(const PlanckKernel& kernel, double* parameters, const PlanckFitOptions& options) {
   using Solver = ceres::TinySolver<PlanckTinyProblem>;
+  constexpr int kIterationsPerRound = 20;
+  const auto started = std::chrono::steady_clock::now();
   Solver solver;
-  solver.options.max_num_iterations = options.max_iterations + 1;
   solver.options.parameter_tolerance = kParameterTolerance;
   solver.options.function_tolerance = 0.0;
   solver.options.gradient_tolerance = 0.0;
   solver.options.cost_threshold = 0.0;
   Solver::Parameters x(parameters[0], parameters[1]);
-  const Solver::Summary& summary = solver.Solve(PlanckTinyProblem{&kernel}, &x);
-  parameters[0] = x[0];
-  parameters[1] = x[1];
   SolveOutcome outcome;
-  outcome.iterations = summary.iterations;
-  switch (summary.status) {
-    case Solver::HIT_MAX_ITERATIONS:
+  while (true) {
+    const int remaining = options.max_iterations - outcome.iterations;
+    // TinySolver counts its first evaluation as iteration 0 and stops at max_num_iterations - 1.
+    solver.options.max_num_iterations = std::min(remaining, kIterationsPerRound) + 1;
+    const Solver::Summary& summary = solver.Solve(PlanckTinyProblem{&kernel}, &x);
+    outcome.iterations += summary.iterations;
+    if (summary.status != Solver::HIT_MAX_ITERATIONS) {
+      outcome.termination = "converged";
+      outcome.message = summary.status == Solver::RELATIVE_STEP_SIZE_TOO_SMALL
+                            ? "relative step below the parameter tolerance"
+                            : "cost change or gradient vanished";
+      break;
+    }
+    if (outcome.iterations >= options.max_iterations) {
       outcome.termination = "iteration_limit";
       outcome.message = "maximum number of iterations reached";
       break;
-    case Solver::RELATIVE_STEP_SIZE_TOO_SMALL:
-      outcome.termination = "converged";
-      outcome.message = "relative step below the parameter tolerance";
+    }
+    const double elapsed = std::chrono::duration<double>(std::chrono::steady_clock::now() - started).count();
+    if (elapsed >= options.time_budget_seconds) {
+      outcome.termination = "time_limit";
+      outcome.message = "time budget of " + std::to_string(options.time_budget_seconds) + " s used up";
       break;
-    default:
-      outcome.termination = "converged";
-      outcome.message = "cost change or gradient vanished";
-      break;
+    }
   }
+  parameters[0] = x[0];
+  parameters[1] = x[1];
   return outcome;
 }
 #pragma GCC diagnostic pop
