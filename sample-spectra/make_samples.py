@@ -104,6 +104,17 @@ def dump_json(obj, indent=0, per_line=8):
     return json.dumps(obj)
 
 
+def write_batch(samples):
+    """batch.ndjson: every sample's JSON request on one line, with the sample's name as its id, for
+    POST /v1/fit/batch."""
+    lines = []
+    for s in samples:
+        with open(os.path.join(HERE, s["stem"] + ".json"), encoding="ascii") as fh:
+            request = json.load(fh)
+        lines.append(json.dumps(dict({"id": s["stem"]}, **request), separators=(",", ":")))
+    write_text("batch.ndjson", "\n".join(lines) + "\n")
+
+
 def write_text(name, text):
     with open(os.path.join(HERE, name), "w", encoding="ascii", newline="\n") as fh:
         fh.write(text)
@@ -356,6 +367,7 @@ def main():
         entry.update(s["truth"])
         truth["samples"].append(entry)
     write_text("truth.json", dump_json(truth) + "\n")
+    write_batch(samples)
     if "--check" in sys.argv[1:]:
         sys.exit(check(truth))
 
