@@ -10,6 +10,8 @@
 #include <optional>
 #include <string_view>
 
+#include <unistd.h>
+
 #include "api/catalogue.h"
 #include "api/fit_service.h"
 #include "api/problem.h"
@@ -181,6 +183,12 @@ class Routes {
       response.set_header("Access-Control-Max-Age", "600");
       return httplib::Server::HandlerResponse::Handled;
     }
+    // The body-size limit is enforced on Content-Length; a chunked body has none to check before it
+    // is read, so it is refused (RFC 9110, 411 Length Required).
+    if (request.get_header_value("Transfer-Encoding").find("chunked") != std::string::npos) {
+      send_problem(response, api::length_required());
+      return httplib::Server::HandlerResponse::Handled;
+    }
     if (std::find(route->methods.begin(), route->methods.end(), request.method) == route->methods.end()) {
       send_problem(response, api::method_not_allowed(request.path + " takes " + joined(route->methods, ", "), route->methods));
       return httplib::Server::HandlerResponse::Handled;
@@ -289,9 +297,15 @@ class Routes {
     }
   }
 
-  void write_log_line(const std::string& line) {
+  // One write(2) per line: stderr is unbuffered, and a stream would issue several system calls.
+  void write_log_line(std::string line) {
+    line += '\n';
     const std::lock_guard lock(log_mutex_);
-    std::cerr << line << '\n';
+    for (std::size_t written = 0; written < line.size();) {
+      const ssize_t n = ::write(STDERR_FILENO, line.data() + written, line.size() - written);
+      if (n <= 0) break;  // a closed stderr must not stop the service
+      written += static_cast<std::size_t>(n);
+    }
   }
 
   const ServerConfig& config_;

@@ -248,8 +248,13 @@ std::string first_unrepresentable_number(std::string_view text) {
 
 element parse_text(std::string_view text) {
   simdjson::dom::parser& parser = thread_parser();
-  if (parser.allocate(std::max<std::size_t>(text.size(), 64), kMaxNestingDepth)) {
-    throw ProblemError(malformed_document("the document is too large to parse"));
+  // Buffers grow to the largest document seen and are then reused; reallocating them for every
+  // request would cost more than parsing a typical one.
+  if (parser.capacity() < text.size() || parser.max_depth() != kMaxNestingDepth) {
+    constexpr std::size_t kMinimumCapacity = 1 << 16;
+    if (parser.allocate(std::max(text.size(), kMinimumCapacity), kMaxNestingDepth)) {
+      throw ProblemError(malformed_document("the document is too large to parse"));
+    }
   }
   element root;
   if (const auto error = parser.parse(text.data(), text.size()).get(root)) {

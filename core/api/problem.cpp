@@ -50,6 +50,12 @@ Problem payload_too_large(std::string detail) {
           std::nullopt, std::nullopt, std::nullopt, {}};
 }
 
+Problem length_required() {
+  return {"/problems/length-required", "The request must state its length", 411,
+          "send the body with a Content-Length header; chunked request bodies are not accepted", std::nullopt,
+          std::nullopt, std::nullopt, {}};
+}
+
 Problem unsupported_media_type(std::string detail, std::vector<std::string> accepted) {
   return {"/problems/unsupported-media-type", "The request's content type is not accepted here", 415,
           std::move(detail), std::nullopt, std::nullopt, std::nullopt, std::move(accepted)};

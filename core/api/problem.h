@@ -50,6 +50,7 @@ Problem invalid_argument(std::string detail, std::vector<std::string> accepted =
 Problem unsupported_feature(std::string pointer, std::string detail, std::vector<std::string> accepted = {});
 Problem invalid_parameter(std::string parameter, std::string detail, std::vector<std::string> accepted = {});
 Problem payload_too_large(std::string detail);
+Problem length_required();
 Problem unsupported_media_type(std::string detail, std::vector<std::string> accepted);
 Problem not_found(std::string detail);
 Problem method_not_allowed(std::string detail, std::vector<std::string> allowed);
