@@ -1,6 +1,7 @@
 #include "api_keys.h"
 
 #include <algorithm>
+#include <cctype>
 
 namespace planckton::server {
 
@@ -22,9 +23,16 @@ bool equal_in_constant_time(std::string_view given, std::string_view key) {
 }  // namespace
 
 bool ApiKeys::accepts(std::string_view header) const {
-  constexpr std::string_view kScheme = "Bearer ";
-  if (header.size() <= kScheme.size() || header.substr(0, kScheme.size()) != kScheme) return false;
-  const std::string_view given = header.substr(kScheme.size());
+  // The scheme name is case-insensitive (RFC 9110, section 11.1); one or more spaces follow it.
+  constexpr std::string_view kScheme = "bearer";
+  if (header.size() <= kScheme.size() + 1) return false;
+  for (std::size_t i = 0; i < kScheme.size(); ++i) {
+    if (std::tolower(static_cast<unsigned char>(header[i])) != kScheme[i]) return false;
+  }
+  std::size_t start = kScheme.size();
+  if (header[start] != ' ') return false;
+  while (start < header.size() && header[start] == ' ') ++start;
+  const std::string_view given = header.substr(start);
   bool accepted = false;
   for (const std::string& key : keys_) accepted |= equal_in_constant_time(given, key);
   return accepted;

@@ -1,11 +1,12 @@
 // planckton-server: the HTTP front end. It only carries requests (routes.cpp) to the api layer.
 //
-// Binds to loopback by default. SIGTERM and SIGINT stop accepting connections, let the requests in
-// flight finish (a streaming batch included), and exit 0.
+// Binds to loopback by default. SIGTERM and SIGINT stop taking requests (503 with Retry-After), let
+// the requests in flight finish (a streaming batch included, up to --drain-timeout), and exit 0.
 #include <httplib.h>
 #include <malloc.h>
 #include <pthread.h>
 
+#include <chrono>
 #include <csignal>
 #include <iostream>
 #include <nlohmann/json.hpp>
@@ -53,7 +54,8 @@ int main(int argc, char** argv) {
 
   Metrics metrics;
   const ApiKeys keys(config.api_keys);
-  install_routes(server, config, metrics, keys);
+  ServiceState state;
+  install_routes(server, config, metrics, keys, state);
 
   int port = config.port;
   if (port == 0) {
@@ -73,10 +75,18 @@ int main(int argc, char** argv) {
   log_line({{"event", "listening"}, {"address", config.bind}, {"port", port}, {"threads", config.threads},
             {"auth", keys.enabled() ? "api_keys" : "off"}});
 
-  std::thread stopper([&server, &stop_signals] {
+  // Graceful stop: new requests are answered 503 while those in flight (a streaming batch included)
+  // finish; then the listener stops. httplib's own stop() would cut a streaming response short.
+  std::thread stopper([&server, &stop_signals, &state, &config] {
     int signal = 0;
     sigwait(&stop_signals, &signal);
-    log_line({{"event", "stopping"}, {"signal", signal == SIGTERM ? "SIGTERM" : "SIGINT"}});
+    log_line({{"event", "stopping"}, {"signal", signal == SIGTERM ? "SIGTERM" : "SIGINT"}, {"in_flight", state.in_flight.load()}});
+    state.draining = true;
+    const auto deadline = std::chrono::steady_clock::now() + std::chrono::duration<double>(config.drain_timeout_seconds);
+    while (state.in_flight > 0 && std::chrono::steady_clock::now() < deadline) {
+      std::this_thread::sleep_for(std::chrono::milliseconds(10));
+    }
+    if (state.in_flight > 0) log_line({{"event", "drain_timeout"}, {"in_flight", state.in_flight.load()}});
     server.stop();
   });
   const bool listened = server.listen_after_bind();

@@ -29,26 +29,16 @@ using Clock = std::chrono::steady_clock;
 using api::Problem;
 using api::ProblemError;
 
+class Routes;
+using RouteHandler = void (Routes::*)(const httplib::Request&, httplib::Response&);
+
 struct Route {
   std::string_view path;
   std::vector<std::string> methods;
+  RouteHandler handler;
 };
 
-const std::vector<Route>& known_routes() {
-  static const std::vector<Route> kRoutes = {
-      {"/v1/fit", {"POST"}},        {"/v1/fit/batch", {"POST"}}, {"/v1/models", {"GET"}},
-      {"/v1/units", {"GET"}},       {"/v1/health", {"GET"}},     {"/metrics", {"GET"}},
-      {"/openapi.yaml", {"GET"}},
-  };
-  return kRoutes;
-}
-
-const Route* find_route(const std::string& path) {
-  for (const Route& route : known_routes()) {
-    if (route.path == path) return &route;
-  }
-  return nullptr;
-}
+const Route* find_route(const std::string& path);
 
 std::string joined(const std::vector<std::string>& items, const char* separator) {
   std::string out;
@@ -80,6 +70,8 @@ void send_json(httplib::Response& response, const nlohmann::ordered_json& docume
 // Per worker thread: when the request being answered started (set before routing, read by the
 // access log).
 thread_local std::optional<Clock::time_point> request_started;
+thread_local bool request_counted = false;    // counted in ServiceState::in_flight
+thread_local std::size_t streamed_bytes = 0;  // written by a chunked content provider
 
 std::string utc_timestamp() {
   const auto now = std::chrono::system_clock::now();
@@ -95,15 +87,14 @@ std::string utc_timestamp() {
 
 class Routes {
  public:
-  Routes(const ServerConfig& config, Metrics& metrics, const ApiKeys& keys)
-      : config_(config), metrics_(metrics), keys_(keys),
+  Routes(const ServerConfig& config, Metrics& metrics, const ApiKeys& keys, ServiceState& state)
+      : config_(config), metrics_(metrics), keys_(keys), state_(state),
         limits_{config.max_points, config.time_budget_seconds} {}
 
   // Runs a handler; a ProblemError becomes its problem document, anything else a 500 (a defect).
-  template <typename Handler>
-  void answer(const httplib::Request& request, httplib::Response& response, Handler&& handler) {
+  void answer(const httplib::Request& request, httplib::Response& response, RouteHandler handler) {
     try {
-      handler(request, response);
+      (this->*handler)(request, response);
     } catch (const ProblemError& e) {
       if (is_fit_route(request.path)) count_failed_input(e.problem());
       send_problem(response, e.problem());
@@ -137,6 +128,16 @@ class Routes {
     send_json(response, document);
   }
 
+  void models(const httplib::Request&, httplib::Response& response) { send_json(response, api::models_document()); }
+  void units(const httplib::Request&, httplib::Response& response) { send_json(response, api::units_document()); }
+  void health(const httplib::Request&, httplib::Response& response) { send_json(response, api::health_document()); }
+  void metrics_text(const httplib::Request&, httplib::Response& response) {
+    response.set_content(metrics_.exposition(), "text/plain; version=0.0.4; charset=utf-8");
+  }
+  void openapi(const httplib::Request&, httplib::Response& response) {
+    response.set_content(std::string(kOpenApiYaml), "application/yaml");
+  }
+
   void batch(const httplib::Request& request, httplib::Response& response) {
     const std::string type = media_type(request);
     if (type != "application/x-ndjson" && type != "application/jsonl") {
@@ -164,19 +165,24 @@ class Routes {
           api::fit_batch_line(std::string_view(state->body).substr(offset, length), index, limits_);
       count_batch_line(line);
       const std::string text = line.dump() + "\n";
+      streamed_bytes += text.size();
       return sink.write(text.data(), text.size());
     });
   }
 
-  // Before routing: unknown paths, wrong methods, CORS preflight, API keys.
+  // Before the body is read: the drain at shutdown, CORS preflight, and chunked bodies. Everything
+  // else is decided after the body is read (dispatch), so that an early answer never leaves an
+  // unread body on a kept-alive connection.
   httplib::Server::HandlerResponse before_routing(const httplib::Request& request, httplib::Response& response) {
     request_started = Clock::now();
-    const Route* route = find_route(request.path);
-    if (route == nullptr) {
-      send_problem(response, api::not_found("no endpoint at " + request.path + "; see GET /openapi.yaml"));
-      return httplib::Server::HandlerResponse::Handled;
+    if (state_.draining) {
+      response.set_header("Retry-After", "1");
+      return answer_early(response, api::service_unavailable("the service is shutting down"));
     }
-    if (request.method == "OPTIONS" && cors_origin(request)) {
+    ++state_.in_flight;
+    request_counted = true;
+    const Route* route = find_route(request.path);
+    if (request.method == "OPTIONS" && route != nullptr && cors_origin(request)) {
       response.status = 204;
       response.set_header("Access-Control-Allow-Methods", joined(route->methods, ", "));
       response.set_header("Access-Control-Allow-Headers", "Authorization, Content-Type");
@@ -184,20 +190,25 @@ class Routes {
       return httplib::Server::HandlerResponse::Handled;
     }
     // The body-size limit is enforced on Content-Length; a chunked body has none to check before it
-    // is read, so it is refused (RFC 9110, 411 Length Required).
+    // is read, so it is refused (RFC 9110, 411 Length Required) and the connection closed.
     if (request.get_header_value("Transfer-Encoding").find("chunked") != std::string::npos) {
-      send_problem(response, api::length_required());
-      return httplib::Server::HandlerResponse::Handled;
-    }
-    if (std::find(route->methods.begin(), route->methods.end(), request.method) == route->methods.end()) {
-      send_problem(response, api::method_not_allowed(request.path + " takes " + joined(route->methods, ", "), route->methods));
-      return httplib::Server::HandlerResponse::Handled;
-    }
-    if (keys_.enabled() && request.path != "/v1/health" && !keys_.accepts(request.get_header_value("Authorization"))) {
-      send_problem(response, api::unauthorized());
-      return httplib::Server::HandlerResponse::Handled;
+      return answer_early(response, api::length_required());
     }
     return httplib::Server::HandlerResponse::Unhandled;
+  }
+
+  // Every request that reaches routing: path, method and key, then the route's handler.
+  void dispatch(const httplib::Request& request, httplib::Response& response) {
+    const Route* route = find_route(request.path);
+    if (route == nullptr) {
+      send_problem(response, api::not_found("no endpoint at " + request.path + "; see GET /openapi.yaml"));
+    } else if (std::find(route->methods.begin(), route->methods.end(), request.method) == route->methods.end()) {
+      send_problem(response, api::method_not_allowed(request.path + " takes " + joined(route->methods, ", "), route->methods));
+    } else if (keys_.enabled() && request.path != "/v1/health" && !keys_.accepts(request.get_header_value("Authorization"))) {
+      send_problem(response, api::unauthorized());
+    } else {
+      answer(request, response, route->handler);
+    }
   }
 
   void after_routing(const httplib::Request& request, httplib::Response& response) {
@@ -228,13 +239,17 @@ class Routes {
     double seconds = 0.0;
     if (request_started) seconds = std::chrono::duration<double>(Clock::now() - *request_started).count();
     request_started.reset();
+    if (request_counted) --state_.in_flight;
+    request_counted = false;
+    const std::size_t response_bytes = response.body.size() + streamed_bytes;
+    streamed_bytes = 0;
     const std::string route = find_route(request.path) != nullptr ? request.path : "unmatched";
     metrics_.record_request(route, response.status, seconds);
     // No bodies, no headers (so never a key), only what an operator needs.
     const nlohmann::ordered_json line = {
         {"event", "request"},       {"time", utc_timestamp()},         {"method", request.method},
         {"path", request.path},     {"status", response.status},       {"duration_ms", seconds * 1e3},
-        {"request_bytes", request.body.size()}, {"response_bytes", response.body.size()},
+        {"request_bytes", request.body.size()}, {"response_bytes", response_bytes},
         {"remote", request.remote_addr}};
     write_log_line(line.dump());
   }
@@ -278,6 +293,14 @@ class Routes {
     return origin;
   }
 
+  // An answer before the body is read: the connection is closed after it, so that the unread body
+  // is never taken for the next request.
+  static httplib::Server::HandlerResponse answer_early(httplib::Response& response, const Problem& problem) {
+    send_problem(response, problem);
+    response.set_header("Connection", "close");
+    return httplib::Server::HandlerResponse::Handled;
+  }
+
   static bool is_fit_route(const std::string& path) { return path == "/v1/fit" || path == "/v1/fit/batch"; }
 
   void count_fit(const nlohmann::ordered_json& document) {
@@ -311,31 +334,38 @@ class Routes {
   const ServerConfig& config_;
   Metrics& metrics_;
   const ApiKeys& keys_;
+  ServiceState& state_;
   api::ServiceLimits limits_;
   std::mutex log_mutex_;
 };
 
+const Route* find_route(const std::string& path) {
+  static const std::vector<Route> kRoutes = {
+      {"/v1/fit", {"POST"}, &Routes::fit},          {"/v1/fit/batch", {"POST"}, &Routes::batch},
+      {"/v1/models", {"GET"}, &Routes::models},     {"/v1/units", {"GET"}, &Routes::units},
+      {"/v1/health", {"GET"}, &Routes::health},     {"/metrics", {"GET"}, &Routes::metrics_text},
+      {"/openapi.yaml", {"GET"}, &Routes::openapi},
+  };
+  for (const Route& route : kRoutes) {
+    if (route.path == path) return &route;
+  }
+  return nullptr;
+}
+
 }  // namespace
 
-void install_routes(httplib::Server& server, const ServerConfig& config, Metrics& metrics, const ApiKeys& keys) {
+void install_routes(httplib::Server& server, const ServerConfig& config, Metrics& metrics, const ApiKeys& keys,
+                    ServiceState& state) {
   // Shared by every handler, so it lives as long as the server's handlers do.
-  const auto routes = std::make_shared<Routes>(config, metrics, keys);
-  const auto handle = [routes](void (Routes::*method)(const httplib::Request&, httplib::Response&)) {
-    return [routes, method](const httplib::Request& request, httplib::Response& response) {
-      routes->answer(request, response, [&](const httplib::Request& q, httplib::Response& r) { ((*routes).*method)(q, r); });
-    };
-  };
-  server.Post("/v1/fit", handle(&Routes::fit));
-  server.Post("/v1/fit/batch", handle(&Routes::batch));
-  server.Get("/v1/models", [](const httplib::Request&, httplib::Response& r) { send_json(r, api::models_document()); });
-  server.Get("/v1/units", [](const httplib::Request&, httplib::Response& r) { send_json(r, api::units_document()); });
-  server.Get("/v1/health", [](const httplib::Request&, httplib::Response& r) { send_json(r, api::health_document()); });
-  server.Get("/metrics", [routes](const httplib::Request&, httplib::Response& r) {
-    r.set_content(routes->metrics().exposition(), "text/plain; version=0.0.4; charset=utf-8");
-  });
-  server.Get("/openapi.yaml", [](const httplib::Request&, httplib::Response& r) {
-    r.set_content(std::string(kOpenApiYaml), "application/yaml");
-  });
+  const auto routes = std::make_shared<Routes>(config, metrics, keys, state);
+  const auto dispatch = [routes](const httplib::Request& q, httplib::Response& r) { routes->dispatch(q, r); };
+  // One pattern for every path and method: dispatch() decides, after the body has been read.
+  server.Get(".*", dispatch);
+  server.Post(".*", dispatch);
+  server.Put(".*", dispatch);
+  server.Patch(".*", dispatch);
+  server.Delete(".*", dispatch);
+  server.Options(".*", dispatch);
   server.set_pre_routing_handler([routes](const httplib::Request& q, httplib::Response& r) { return routes->before_routing(q, r); });
   server.set_post_routing_handler([routes](const httplib::Request& q, httplib::Response& r) { routes->after_routing(q, r); });
   server.set_error_handler([routes](const httplib::Request& q, httplib::Response& r) { routes->on_error(q, r); });

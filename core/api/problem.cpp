@@ -56,6 +56,11 @@ Problem length_required() {
           std::nullopt, std::nullopt, {}};
 }
 
+Problem service_unavailable(std::string detail) {
+  return {"/problems/service-unavailable", "The service cannot take the request now", 503, std::move(detail),
+          std::nullopt, std::nullopt, std::nullopt, {}};
+}
+
 Problem unsupported_media_type(std::string detail, std::vector<std::string> accepted) {
   return {"/problems/unsupported-media-type", "The request's content type is not accepted here", 415,
           std::move(detail), std::nullopt, std::nullopt, std::nullopt, std::move(accepted)};

@@ -51,6 +51,7 @@ Problem unsupported_feature(std::string pointer, std::string detail, std::vector
 Problem invalid_parameter(std::string parameter, std::string detail, std::vector<std::string> accepted = {});
 Problem payload_too_large(std::string detail);
 Problem length_required();
+Problem service_unavailable(std::string detail);
 Problem unsupported_media_type(std::string detail, std::vector<std::string> accepted);
 Problem not_found(std::string detail);
 Problem method_not_allowed(std::string detail, std::vector<std::string> allowed);

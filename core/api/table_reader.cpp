@@ -58,19 +58,21 @@ std::string quoted(std::string_view field) {
   return "'" + shown + (field.size() > kShown ? "...'" : "'");
 }
 
+// role names the column and the setting that chose it ("x" -> x_column, "y_error" -> error_column).
 std::optional<std::size_t> find_column(const Table& table, const std::string& wanted, const char* role) {
+  const std::string parameter = std::string(role) == "y_error" ? "error_column" : std::string(role) + "_column";
   if (wanted.empty()) return std::nullopt;
   if (std::all_of(wanted.begin(), wanted.end(), [](char c) { return std::isdigit(static_cast<unsigned char>(c)); })) {
     const std::size_t index = std::stoul(wanted);
     if (index < 1 || index > table.columns.size()) {
-      throw ProblemError(invalid_argument(std::string(role) + " column " + wanted + " does not exist; the table has " +
+      throw ProblemError(invalid_parameter(parameter, std::string(role) + " column " + wanted + " does not exist; the table has " +
                                                std::to_string(table.columns.size()) + " columns"));
     }
     return index - 1;
   }
   const auto it = std::find(table.header.begin(), table.header.end(), wanted);
   if (it == table.header.end()) {
-    throw ProblemError(invalid_argument(std::string(role) + " column '" + wanted + "' is not in the header", table.header));
+    throw ProblemError(invalid_parameter(parameter, std::string(role) + " column '" + wanted + "' is not in the header", table.header));
   }
   return static_cast<std::size_t>(it - table.header.begin());
 }

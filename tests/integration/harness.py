@@ -75,6 +75,13 @@ class Checks:
             print(f"SKIP  {name}  (not run: {reason})", flush=True)
             self.skipped += 1
 
+    def skip_schema(self, name, reason):
+        """A schema check that cannot run: SKIP, or FAIL under --require-schema."""
+        if self.require_schema:
+            return self.check(name, False, f"--require-schema: {reason}")
+        self.skip(name, reason)
+        return None
+
     def note(self, text):
         print(f"NOTE  {text}", flush=True)
 
@@ -181,7 +188,7 @@ class Server:
         if first:
             self._first.put(None)
 
-    def signal(self, sig):
+    def send_signal(self, sig):
         if self.process and self.process.poll() is None:
             self.process.send_signal(sig)
 
@@ -223,7 +230,7 @@ class Server:
     @classmethod
     def stop_all_quietly(cls):
         for server in list(cls._running):
-            server.signal(signal.SIGTERM)
+            server.send_signal(signal.SIGTERM)
             try:
                 server.process.wait(timeout=15)
             except subprocess.TimeoutExpired:
@@ -570,16 +577,23 @@ class OpenAPI:
         errors = sorted(validator.iter_errors(instance), key=lambda e: list(e.absolute_path))
         if not errors:
             return None
-        e = errors[0]
-        where = "/" + "/".join(str(p) for p in e.absolute_path)
-        return f"{len(errors)} error(s); first at {where}: {e.message[:200]}"
+        shown = []
+        for e in errors[:4]:
+            where = "/" + "/".join(str(p) for p in e.absolute_path)
+            shown.append(f"at {where}: {e.message[:160]}")
+        return f"{len(errors)} error(s): " + "; ".join(shown)
 
-    def check(self, checks, name, instance, path, method, status, content_type):
-        """One check: instance matches the schema of this answer. SKIP (not run) without the file."""
+    def check(self, checks, name, instance, path, method, status, content_type, fallback=None):
+        """One check: instance matches the schema of this answer. SKIP (not run) without the file.
+        fallback names a components/schemas entry for answers the paths do not list (e.g. a 404
+        for a path that does not exist)."""
         if not self.available:
-            checks.skip(name, self.problem)
-            return None
+            return checks.skip_schema(name, self.problem)
         schema, reason = self.response_schema(path, method, status, content_type)
+        if schema is None and fallback is not None:
+            schema = self.component(fallback)
+            if schema is None:
+                reason += f"; and no components/schemas/{fallback}"
         if schema is None:
             return checks.check(name, False, reason)
         try:
@@ -590,8 +604,7 @@ class OpenAPI:
 
     def check_component(self, checks, name, instance, component):
         if not self.available:
-            checks.skip(name, self.problem)
-            return None
+            return checks.skip_schema(name, self.problem)
         schema = self.component(component)
         if schema is None:
             return checks.check(name, False, f"no components/schemas/{component} in openapi.yaml")
