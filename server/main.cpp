@@ -13,6 +13,7 @@
 #include <thread>
 
 #include "api_keys.h"
+#include "connection_queue.h"
 #include "metrics.h"
 #include "routes.h"
 #include "server_config.h"
@@ -44,7 +45,9 @@ int main(int argc, char** argv) {
   mallopt(M_MMAP_THRESHOLD, 64 << 20);
 
   httplib::Server server;
-  server.new_task_queue = [threads = config.threads] { return new httplib::ThreadPool(static_cast<std::size_t>(threads)); };
+  server.new_task_queue = [&config] {
+    return new ConnectionQueue(static_cast<std::size_t>(config.threads), config.max_waiting_connections);
+  };
   server.set_tcp_nodelay(true);  // without it, Nagle holds each response's body behind its headers (~40 ms)
   server.set_payload_max_length(config.max_body_bytes);
   server.set_keep_alive_max_count(config.keep_alive_max);

@@ -15,6 +15,7 @@
 #include "api/catalogue.h"
 #include "api/fit_service.h"
 #include "api/problem.h"
+#include "connection_queue.h"
 
 namespace planckton {
 // openapi/openapi.yaml, embedded at build time (cmake/embed_text.cmake).
@@ -178,6 +179,10 @@ class Routes {
     if (state_.draining) {
       response.set_header("Retry-After", "1");
       return answer_early(response, api::service_unavailable("the service is shutting down"));
+    }
+    if (on_overflow_thread()) {
+      response.set_header("Retry-After", "1");
+      return answer_early(response, api::service_unavailable("every worker is busy and the queue is full; retry shortly"));
     }
     ++state_.in_flight;
     request_counted = true;

@@ -67,6 +67,10 @@ ServerConfig load_config(int argc, char** argv) {
       ->envname("PLANCKTON_KEEP_ALIVE_TIMEOUT")->check(CLI::Range(1, 3600))->capture_default_str();
   app.add_option("--read-timeout", config.read_timeout_seconds, "seconds to wait for a request's bytes")
       ->envname("PLANCKTON_READ_TIMEOUT")->check(CLI::Range(1, 3600))->capture_default_str();
+  app.add_option("--max-waiting-connections", config.max_waiting_connections,
+                 "connections that may wait for a worker; more are answered 503")
+      ->envname("PLANCKTON_MAX_WAITING_CONNECTIONS")->check(CLI::Range(std::size_t{1}, std::size_t{100000}))
+      ->capture_default_str();
   app.add_option("--drain-timeout", config.drain_timeout_seconds, "at shutdown, seconds to let requests finish")
       ->envname("PLANCKTON_DRAIN_TIMEOUT")->check(CLI::Range(0.0, 3600.0))->capture_default_str();
   app.add_option("--api-keys-file", key_file, "file of API keys, one per line (none: open service)")

@@ -19,6 +19,7 @@ struct ServerConfig {
   std::size_t keep_alive_max = 100;
   int keep_alive_timeout_seconds = 5;
   int read_timeout_seconds = 30;
+  std::size_t max_waiting_connections = 64;  // beyond: 503 with Retry-After
   double drain_timeout_seconds = 60.0;  // at shutdown, how long requests in flight may take
   std::vector<std::string> api_keys;      // empty: the service is open
   std::vector<std::string> cors_origins;  // empty: CORS off

@@ -5,7 +5,10 @@ plan says; and the server must answer a good request right after each case."""
 import json
 import random
 
-import harness
+import sys
+
+sys.dont_write_bytecode = True  # no __pycache__ in the source tree
+import harness  # noqa: E402
 from harness import Checks, OpenAPI, Server, check_problem, describe, http, is_response
 
 args = harness.parse_args(__doc__)

@@ -7,7 +7,10 @@ import json
 import os
 import time
 
-import harness
+import sys
+
+sys.dont_write_bytecode = True  # no __pycache__ in the source tree
+import harness  # noqa: E402
 from harness import Checks, OpenAPI, Server, describe, http, is_response, json_of, media_type, problem_issues
 
 args = harness.parse_args(__doc__)

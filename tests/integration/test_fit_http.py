@@ -7,7 +7,10 @@ import json
 import os
 import re
 
-import harness
+import sys
+
+sys.dont_write_bytecode = True  # no __pycache__ in the source tree
+import harness  # noqa: E402
 from harness import Checks, OpenAPI, Server, check_problem, http, is_response, json_of, media_type, describe
 
 args = harness.parse_args(__doc__)

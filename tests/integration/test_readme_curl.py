@@ -8,7 +8,10 @@ import os
 import re
 import subprocess
 
-import harness
+import sys
+
+sys.dont_write_bytecode = True  # no __pycache__ in the source tree
+import harness  # noqa: E402
 from harness import Checks, Server
 
 args = harness.parse_args(__doc__)

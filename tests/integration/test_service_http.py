@@ -9,7 +9,10 @@ import tempfile
 import threading
 import time
 
-import harness
+import sys
+
+sys.dont_write_bytecode = True  # no __pycache__ in the source tree
+import harness  # noqa: E402
 from harness import (Checks, OpenAPI, Server, check_problem, describe, fresh_http, http, is_response, json_of,
                      media_type, metric_value)
 
