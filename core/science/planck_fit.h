@@ -7,16 +7,20 @@
 // spectra it is arbitrary.
 //
 // Method.
-//  1. Start: a coarse grid over ln T (ratio 2 between nodes) on an evenly spaced subsample of the
+//  1. Start: a coarse grid over ln T (ratio 2 between nodes) on an evenly spaced subsample of 48
 //     points, with the best scale at each node in closed form (linear least squares), refined by a
-//     parabola through the best three nodes. The grid spans the whole range the data can constrain
-//     (x = h nu / k T from 1e-3 at the highest frequency to 300 at the lowest) within the temperature
-//     bounds, so the local solve cannot start in the wrong basin.
+//     golden-section search (J. Kiefer 1953) between the best node's neighbours. The grid spans the
+//     whole range the data can constrain (x = h nu / k T from 1e-3 at the highest frequency to 300
+//     at the lowest) within the temperature bounds, so the local solve cannot start in the wrong
+//     basin.
 //  2. Local solve: Levenberg-Marquardt (K. Levenberg 1944; D. W. Marquardt, SIAM J. Appl. Math. 11,
 //     431 (1963)) in Ceres Solver over (ln T, ln scale), so both stay positive, with an analytic
-//     Jacobian and ln T bounded. Residuals are (y - model) / sigma; with a robust loss (Huber 1964, or
-//     Cauchy) each point is its own residual block so the loss acts per point.
-//  3. Covariance: (J^T J)^-1 at the solution, computed by ceres::Covariance. Without y_error every
+//     Jacobian. Residuals are (y - model) / sigma. Plain least squares runs ceres::TinySolver (small
+//     dense problems, no set-up cost), in rounds so that the time budget is checked; a robust loss
+//     (Huber 1964, or Cauchy), or a solution outside the temperature bounds, runs a ceres::Problem
+//     with ln T bounded and each point its own residual block so that the loss acts per point.
+//  3. Covariance: (J^T J)^-1 at the solution: the Gauss-Newton formula on the fast path, and
+//     ceres::Covariance on the general one (a test checks that they agree). Without y_error every
 //     point has equal weight and the covariance is multiplied by chi^2 / dof, the residual variance
 //     (as scipy.optimize.curve_fit does with absolute_sigma=False), and a warning says so.
 //  4. Goodness of fit: chi^2, degrees of freedom n - 2, and the p-value Q(dof/2, chi^2/2) (the
@@ -50,7 +54,8 @@ struct PlanckFitOptions {
   // y_error, of the scatter estimated robustly from the residuals at the start).
   RobustLoss loss = RobustLoss::kNone;
   double loss_scale = 1.0;
-  // Solver budget. A fit that runs out of either still returns its best estimate, flagged.
+  // Solver budget. A fit that runs out of either still returns its best estimate, flagged
+  // (termination "iteration_limit" or "time_limit").
   int max_iterations = 200;
   double time_budget_seconds = 10.0;
 };
