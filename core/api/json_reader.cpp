@@ -1,0 +1,169 @@
+#include "api/json_reader.h"
+
+#include <algorithm>
+#include <charconv>
+#include <cmath>
+
+#include "api/problem.h"
+
+namespace planckton::api::json_reading {
+
+
+using simdjson::dom::element_type;
+
+// Deeper nesting than any request needs is refused before it can exhaust memory or stack.
+constexpr std::size_t kMaxNestingDepth = 64;
+
+const char* type_name(const element& value) {
+  switch (value.type()) {
+    case element_type::NULL_VALUE: return "null";
+    case element_type::BOOL: return "a boolean";
+    case element_type::STRING: return "a string";
+    case element_type::ARRAY: return "an array";
+    case element_type::OBJECT: return "an object";
+    default: return "a number";
+  }
+}
+
+[[noreturn]] void fail(const std::string& pointer, const std::string& detail, std::vector<std::string> accepted) {
+  throw ProblemError(invalid_value(pointer, detail, std::move(accepted)));
+}
+
+std::string member_pointer(const std::string& parent, std::string_view key) {
+  // RFC 6901: '~' is written "~0" and '/' is written "~1".
+  std::string escaped;
+  for (char c : key) {
+    if (c == '~') escaped += "~0";
+    else if (c == '/') escaped += "~1";
+    else escaped += c;
+  }
+  return parent + "/" + escaped;
+}
+
+std::string index_pointer(const std::string& parent, std::size_t index) {
+  std::string pointer = parent;
+  pointer += '/';
+  pointer += std::to_string(index);
+  return pointer;
+}
+
+double number_at(const element& value, const std::string& pointer) {
+  double v = 0.0;
+  if (!value.is_number() || value.get_double().get(v)) fail(pointer, std::string("must be a number, is ") + type_name(value));
+  if (!std::isfinite(v)) fail(pointer, "must be a finite number");
+  return v;
+}
+
+std::string string_at(const element& value, const std::string& pointer) {
+  std::string_view s;
+  if (value.get_string().get(s)) fail(pointer, std::string("must be a string, is ") + type_name(value));
+  return std::string(s);
+}
+
+std::vector<double> numbers_at(const element& value, const std::string& pointer) {
+  simdjson::dom::array array;
+  if (value.get_array().get(array)) fail(pointer, std::string("must be an array of numbers, is ") + type_name(value));
+  std::vector<double> out;
+  out.reserve(array.size());
+  std::size_t i = 0;
+  for (const element item : array) {
+    double v = 0.0;
+    if (item.get_double().get(v)) fail(index_pointer(pointer, i), std::string("must be a number, is ") + type_name(item));
+    out.push_back(v);
+    ++i;
+  }
+  return out;
+}
+
+std::array<double, 2> pair_at(const element& value, const std::string& pointer) {
+  simdjson::dom::array array;
+  if (value.get_array().get(array) || array.size() != 2) fail(pointer, "must be an array of two numbers [lo, hi]");
+  return {number_at(array.at(0).value_unsafe(), pointer + "/0"), number_at(array.at(1).value_unsafe(), pointer + "/1")};
+}
+
+std::vector<std::array<double, 2>> ranges_at(const element& value, const std::string& pointer) {
+  simdjson::dom::array array;
+  if (value.get_array().get(array)) fail(pointer, "must be an array of [lo, hi] ranges in x_unit");
+  std::vector<std::array<double, 2>> ranges;
+  std::size_t i = 0;
+  for (const element item : array) ranges.push_back(pair_at(item, index_pointer(pointer, i++)));
+  return ranges;
+}
+
+SpectrumInput parse_spectrum(const element& value) {
+  const Members s(value, "/spectrum", {"x", "x_unit", "y", "y_unit", "y_error", "exclude"});
+  SpectrumInput spectrum;
+  spectrum.x = numbers_at(s.require("x"), s.at("x"));
+  spectrum.x_unit = string_at(s.require("x_unit"), s.at("x_unit"));
+  spectrum.y = numbers_at(s.require("y"), s.at("y"));
+  spectrum.y_unit = string_at(s.require("y_unit"), s.at("y_unit"));
+  if (const auto e = s.find("y_error"); e && !e->is_null()) {
+    spectrum.y_error = numbers_at(*e, s.at("y_error"));
+    if (spectrum.y_error.empty()) fail(s.at("y_error"), "must not be empty; omit it when there are no errors");
+  }
+  if (const auto e = s.find("exclude")) spectrum.exclude = ranges_at(*e, s.at("exclude"));
+  if (spectrum.x.empty()) fail(s.at("x"), "must not be empty");
+  return spectrum;
+}
+
+namespace {
+
+simdjson::dom::parser& thread_parser() {
+  thread_local simdjson::dom::parser parser;
+  return parser;
+}
+
+// The first number in the text that a double cannot hold, to name it in the problem.
+std::string first_unrepresentable_number(std::string_view text) {
+  bool in_string = false;
+  for (std::size_t i = 0; i < text.size(); ++i) {
+    const char c = text[i];
+    if (in_string) {
+      if (c == '\\') ++i;
+      else if (c == '"') in_string = false;
+      continue;
+    }
+    if (c == '"') {
+      in_string = true;
+    } else if (c == '-' || (c >= '0' && c <= '9')) {
+      const std::size_t end = text.find_first_not_of("+-.0123456789eE", i);
+      const std::string_view token = text.substr(i, end == std::string_view::npos ? text.size() - i : end - i);
+      double value = 0.0;
+      const auto result = std::from_chars(token.data(), token.data() + token.size(), value);
+      if (result.ec == std::errc::result_out_of_range) return std::string(token.substr(0, 40));
+      i += token.size() - 1;
+    }
+  }
+  return "";
+}
+
+}  // namespace
+
+element parse_text(std::string_view text) {
+  simdjson::dom::parser& parser = thread_parser();
+  // Buffers grow to the largest document seen and are then reused; reallocating them for every
+  // request would cost more than parsing a typical one.
+  if (parser.capacity() < text.size() || parser.max_depth() != kMaxNestingDepth) {
+    constexpr std::size_t kMinimumCapacity = 1 << 16;
+    if (parser.allocate(std::max(text.size(), kMinimumCapacity), kMaxNestingDepth)) {
+      throw ProblemError(malformed_document("the document is too large to parse"));
+    }
+  }
+  element root;
+  if (const auto error = parser.parse(text.data(), text.size()).get(root)) {
+    std::string detail = std::string("the body is not valid JSON: ") + simdjson::error_message(error);
+    if (error == simdjson::DEPTH_ERROR) {
+      detail = "the JSON nests deeper than " + std::to_string(kMaxNestingDepth) + " levels";
+    } else if (error == simdjson::NUMBER_ERROR) {
+      const std::string number = first_unrepresentable_number(text);
+      detail = "the body holds a number a double cannot represent" +
+               (number.empty() ? std::string(" (beyond about 1.8e308, or an integer of more than 64 bits)") : ": " + number);
+    } else if (error == simdjson::EMPTY) {
+      detail = "the body is empty; send a fit request document";
+    }
+    throw ProblemError(malformed_document(detail));
+  }
+  return root;
+}
+
+}  // namespace planckton::api::json_reading
