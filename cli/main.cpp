@@ -14,6 +14,7 @@
 #include <vector>
 
 #include "api/fit_service.h"
+#include "api/lab_documents.h"
 #include "api/problem.h"
 
 namespace {
@@ -90,6 +91,15 @@ int main(int argc, char** argv) {
   }
   fit->add_option("--exclude", args.exclude, "for a table: mask the x range LO:HI (in --x-unit); repeatable");
 
+  // The laboratory documents (JSON requests only).
+  std::string lab_file;
+  CLI::App* light = app.add_subcommand("light", "Chromaticity, CCT, Duv and distribution temperature of a light source");
+  light->add_option("file", lab_file, "JSON request ('-' reads standard input)")->required();
+  light->add_flag("--compact", args.compact, "print the response on one line");
+  CLI::App* hot_body = app.add_subcommand("hot-body", "Grey-body temperature, emissivity and radiance temperatures");
+  hot_body->add_option("file", lab_file, "JSON request ('-' reads standard input)")->required();
+  hot_body->add_flag("--compact", args.compact, "print the response on one line");
+
   try {
     app.parse(argc, argv);
   } catch (const CLI::ParseError& e) {
@@ -97,10 +107,16 @@ int main(int argc, char** argv) {
     return code == 0 ? 0 : kExitBadInput;
   }
   try {
-    const std::string text = read_input(args.file);
-    const nlohmann::ordered_json response = looks_like_json(text, args.format)
-                                                ? planckton::api::fit_json_text(text)
-                                                : planckton::api::fit_table_text(text, table_parameters(args, flags));
+    nlohmann::ordered_json response;
+    if (light->parsed()) {
+      response = planckton::api::light_source_text(read_input(lab_file));
+    } else if (hot_body->parsed()) {
+      response = planckton::api::hot_body_text(read_input(lab_file));
+    } else {
+      const std::string text = read_input(args.file);
+      response = looks_like_json(text, args.format) ? planckton::api::fit_json_text(text)
+                                                    : planckton::api::fit_table_text(text, table_parameters(args, flags));
+    }
     std::cout << (args.compact ? response.dump() : response.dump(2)) << '\n';
     return 0;
   } catch (const planckton::api::ProblemError& e) {

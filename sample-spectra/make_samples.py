@@ -2,9 +2,15 @@
 """Generate the synthetic demo spectra in this directory, plus truth.json.
 
 Everything here is invented: the "Tallow Moor Observatory" survey, its
-survey stars TMS-xxxx and the "Cinder Street photometry lab" bench lamp QL-3
-do not exist, and every number is computed below from a Planck curve plus
-seeded pseudo-random noise.
+survey stars TMS-xxxx and the "Cinder Street photometry lab" with its bench
+lamp QL-3, lamp QL-7, white LED W-2 and furnace sample K-4 do not exist, and
+every number is computed below from a Planck curve (or, for the LED, a sum of
+Gaussians) plus seeded pseudo-random noise.
+
+The lab samples are requests for POST /v1/light and POST /v1/hot-body (JSON
+only); their truth ("lab_samples" in truth.json) is computed here, not by
+planckton: colorimetry from the CIE 1931 2-degree table in core/data/ and a
+brute-force nearest-point search of the Planckian locus for CCT and Duv.
 
 Usage (from the repository root):
 
@@ -333,6 +339,256 @@ def bench_lamp(seed):
     }
 
 
+# ---------------------------------------------------------------------------
+# Laboratory samples (requests for POST /v1/light and POST /v1/hot-body), with their truth computed
+# here, independently of planckton: colorimetry by plain summation over the CIE 5 nm table and the
+# correlated colour temperature by brute-force search for the nearest point of the Planckian locus.
+
+REPO = os.path.dirname(HERE)
+CMF_2DEG = "cie1931-2deg-cmf.csv"
+CMF_DIRS = [os.path.join(REPO, "core", "data"), os.path.join(os.path.dirname(REPO), "shared", "colorimetry")]
+
+
+def read_cmf(name=CMF_2DEG):
+    """The CIE colour-matching functions (wavelength nm, x-bar, y-bar, z-bar at 5 nm, 360-830 nm)
+    from core/data/, or from the shared colorimetry tables the repository copies them from.
+    Source of the table: CIE 015:2018 Colorimetry, 4th ed. (standard observer tables)."""
+    for d in CMF_DIRS:
+        path = os.path.join(d, name)
+        if os.path.exists(path):
+            with open(path, encoding="ascii") as fh:
+                rows = [ln.strip().split(",") for ln in fh if ln.strip() and not ln.startswith("#")]
+            data = np.array(rows[1:], dtype=float)   # rows[0] is the header
+            return data[:, 0], data[:, 1:].T
+    raise SystemExit("make_samples.py: %s not found in %s" % (name, " or ".join(CMF_DIRS)))
+
+
+def tristimulus(cmf, lam_nm, power):
+    """X, Y, Z (Y = 100) of a relative SPD: the SPD linearly interpolated to the table's 5 nm grid
+    (zero outside the data) and summed with the colour-matching functions (CIE 015:2018 §7)."""
+    wl, bars = cmf
+    p = np.interp(wl, lam_nm, power, left=0.0, right=0.0)
+    xyz = bars @ p
+    return 100.0 * xyz / xyz[1]
+
+
+def chromaticities(xyz):
+    """CIE 1931 xy, CIE 1960 uv and CIE 1976 u'v' of tristimulus values."""
+    X, Y, Z = (float(v) for v in xyz)
+    s = X + Y + Z
+    d = X + 15.0 * Y + 3.0 * Z
+    return {"X": X, "Y": Y, "Z": Z, "x": X / s, "y": Y / s, "u": 4.0 * X / d, "v": 6.0 * Y / d,
+            "u_prime": 4.0 * X / d, "v_prime": 9.0 * Y / d}
+
+
+def locus_uv(cmf, temps):
+    """CIE 1960 uv of Planck's law at each temperature (the same 5 nm summation)."""
+    wl, bars = cmf
+    b = planck_lambda(wl[:, None] * 1e-9, np.asarray(temps, dtype=float)[None, :])
+    x, y, z = bars @ b
+    d = x + 15.0 * y + 3.0 * z
+    return 4.0 * x / d, 6.0 * y / d
+
+
+def nearest_locus(cmf, u, v):
+    """Brute force: the Planckian locus point nearest to (u, v) in CIE 1960 uv over 1000-20000 K
+    (a geometric grid of 40001 temperatures, then a grid of 4001 between the coarse neighbours).
+    Returns (T, Duv) with Duv > 0 above the locus (v larger than at the nearest locus point)."""
+    temps = np.geomspace(1000.0, 20000.0, 40001)
+    lu, lv = locus_uv(cmf, temps)
+    i = int(np.argmin((lu - u) ** 2 + (lv - v) ** 2))
+    fine = np.linspace(temps[max(i - 1, 0)], temps[min(i + 1, temps.size - 1)], 4001)
+    fu, fv = locus_uv(cmf, fine)
+    dist = np.hypot(fu - u, fv - v)
+    j = int(np.argmin(dist))
+    return float(fine[j]), float(math.copysign(dist[j], v - fv[j]))
+
+
+def distribution_temperature(lam_nm, power, lo_nm=380.0, hi_nm=780.0):
+    """Least-squares Planck fit of a relative SPD over [lo, hi] nm, equal weights, the scale in
+    closed form at each temperature; a grid over ln T refined by golden-section search."""
+    keep = (lam_nm >= lo_nm) & (lam_nm <= hi_nm)
+    lam, y = lam_nm[keep] * 1e-9, power[keep]
+
+    def cost(ln_t):
+        b = planck_lambda(lam, math.exp(ln_t))
+        s = float(y @ b) / float(b @ b)
+        r = y - s * b
+        return float(r @ r)
+
+    grid = np.linspace(math.log(1000.0), math.log(20000.0), 601)
+    k = int(np.argmin([cost(g) for g in grid]))
+    a, b = grid[max(k - 1, 0)], grid[min(k + 1, grid.size - 1)]
+    g = (math.sqrt(5.0) - 1.0) / 2.0
+    for _ in range(200):
+        c1, c2 = b - g * (b - a), a + g * (b - a)
+        if cost(c1) < cost(c2):
+            b = c2
+        else:
+            a = c1
+    return math.exp(0.5 * (a + b))
+
+
+def radiance_temperature(lam_m, radiance_w_m2_sr_m):
+    """Planck's law inverted at one wavelength: T = (hc/(lambda k)) / ln(1 + 2hc^2/(lambda^5 L))."""
+    return H * C / (lam_m * K) / math.log1p(2.0 * H * C ** 2 / (lam_m ** 5 * radiance_w_m2_sr_m))
+
+
+def ratio_temperature(l1_m, r1, l2_m, r2):
+    """The T at which B(l1, T)/B(l2, T) = r1/r2 (exact Planck law), by bisection on ln T."""
+    target = math.log(r1 / r2)
+
+    def f(ln_t):
+        t = math.exp(ln_t)
+        return math.log(planck_lambda(l1_m, t) / planck_lambda(l2_m, t)) - target
+
+    a, b = math.log(100.0), math.log(1e6)
+    for _ in range(200):
+        m = 0.5 * (a + b)
+        if (f(a) < 0) == (f(m) < 0):
+            a = m
+        else:
+            b = m
+    return math.exp(0.5 * (a + b))
+
+
+def written(values, fmt):
+    """The numbers as the JSON file holds them (the truth is computed from these)."""
+    return np.array([float(fmt % v) for v in values])
+
+
+def light_truth(cmf, lam, spd):
+    c = chromaticities(tristimulus(cmf, lam, spd))
+    t, duv = nearest_locus(cmf, c["u"], c["v"])
+    c.update({"cct_K": t, "duv": duv, "cct_withheld": abs(duv) > 0.05,
+              "method": "5 nm summation with the CIE 1931 2-degree colour-matching functions (360-830 nm, "
+                        "SPD interpolated linearly, zero outside the data); CCT and Duv by brute-force search "
+                        "for the nearest Planckian locus point in CIE 1960 uv, 1000-20000 K"})
+    return c
+
+
+def cinder_lamp(seed, cmf):
+    rng = np.random.default_rng(seed)
+    t_body = 3000.0
+    ramp_slope, bump = -0.05, 0.08
+    lam = np.arange(360.0, 830.0 + 0.5, 1.0)                     # nm, 471 points
+    ramp = 1.0 + ramp_slope * (lam - 595.0) / 235.0              # -5 % per half-band: a slightly bluer envelope
+    hump = 1.0 + bump * np.exp(-0.5 * ((lam - 540.0) / 60.0) ** 2)   # a gentle green excess: Duv > 0
+    model = planck_lambda(lam * 1e-9, t_body) * ramp * hump
+    model = 100.0 * model / float(np.interp(560.0, lam, model))  # relative, 100 at 560 nm
+    rel = 0.002
+    y = model * (1.0 + rel * rng.normal(0.0, 1.0, lam.size))
+    ys = written(y, "%.6e")
+    col = light_truth(cmf, lam, ys)
+    return {
+        "stem": "cinder-lamp-ql7", "seed": seed, "endpoint": "/v1/light", "cli": "light",
+        "object": "lamp QL-7, tungsten-halogen lamp of the Cinder Street photometry lab (invented)",
+        "request": {"spectrum": {"x": fmt_array(lam, "%.3f"), "x_unit": "nm", "y": fmt_array(y, "%.6e"),
+                                 "y_unit": "relative/nm"},
+                    "observer": "cie1931_2deg"},
+        "truth": {
+            "n_points": int(lam.size),
+            "generation": {"body_temperature_K": t_body,
+                           "ramp": "1 + (%g) (lambda - 595 nm) / 235 nm" % ramp_slope,
+                           "hump": "1 + %g exp(-0.5 ((lambda - 540 nm) / 60 nm)^2)" % bump,
+                           "normalisation": "100 at 560 nm",
+                           "noise": {"kind": "gaussian, relative", "relative": rel, "y_error_given": False}},
+            "grid": "360-830 nm, step 1 nm",
+            "colorimetry": col,
+            "distribution_temperature_K": distribution_temperature(lam, ys),
+            "distribution_temperature_method": "least squares, equal weights, scale free, 380-780 nm",
+        },
+    }
+
+
+def cinder_led(seed, cmf):
+    rng = np.random.default_rng(seed)
+    lam = np.arange(360.0, 830.0 + 0.5, 1.0)                     # nm, 471 points
+    blue = {"center_nm": 450.0, "sigma_nm": 10.5, "amplitude": 1.0}
+    phosphor = [{"center_nm": 550.0, "sigma_nm": 40.0, "amplitude": 0.5},
+                {"center_nm": 610.0, "sigma_nm": 60.0, "amplitude": 0.4}]
+    model = np.zeros_like(lam)
+    for g in [blue] + phosphor:
+        model += g["amplitude"] * np.exp(-0.5 * ((lam - g["center_nm"]) / g["sigma_nm"]) ** 2)
+    model /= float(np.max(model))                                 # relative, 1 at the maximum
+    rel = 0.002
+    y = model * (1.0 + rel * rng.normal(0.0, 1.0, lam.size))
+    ys = written(y, "%.6e")
+    return {
+        "stem": "cinder-led-w2", "seed": seed, "endpoint": "/v1/light", "cli": "light",
+        "object": "white LED W-2 of the Cinder Street photometry lab (invented)",
+        "request": {"spectrum": {"x": fmt_array(lam, "%.3f"), "x_unit": "nm", "y": fmt_array(y, "%.6e"),
+                                 "y_unit": "relative/nm"}},
+        "truth": {
+            "n_points": int(lam.size),
+            "generation": {"blue_peak": blue, "phosphor_hump": phosphor,
+                           "normalisation": "1 at the maximum",
+                           "noise": {"kind": "gaussian, relative", "relative": rel, "y_error_given": False},
+                           "observer_in_request": "none (the default, CIE 1931 2-degree)"},
+            "grid": "360-830 nm, step 1 nm",
+            "colorimetry": light_truth(cmf, lam, ys),
+        },
+    }
+
+
+def kiln_window(seed):
+    rng = np.random.default_rng(seed)
+    t_true = 1500.0
+    emissivity_sample, window_transmittance = 0.50, 0.70
+    emissivity = emissivity_sample * window_transmittance        # 0.35: what the pyrometer sees, grey
+    lam = np.arange(1000.0, 2500.0 + 0.5, 5.0)                   # nm, 301 points
+    model = emissivity * planck_lambda(lam * 1e-9, t_true) / W_M2_SR_NM
+    rel = 0.01
+    sigma = rel * model
+    y = model + rng.normal(0.0, 1.0, lam.size) * sigma
+    at_nm, pair_nm = [1200, 1600, 2000], [1100, 2300]
+    ys = written(y, "%.6e")
+
+    def data_at(nm):
+        return float(ys[int(np.argmin(np.abs(lam - nm)))]) * W_M2_SR_NM
+
+    model_at = {nm: emissivity * float(planck_lambda(nm * 1e-9, t_true)) for nm in at_nm + pair_nm}
+    return {
+        "stem": "kiln-window-k4", "seed": seed, "endpoint": "/v1/hot-body", "cli": "hot-body",
+        "object": "furnace sample K-4 seen through a kiln window, Cinder Street photometry lab (invented)",
+        "request": {"spectrum": {"x": fmt_array(lam, "%.3f"), "x_unit": "nm", "y": fmt_array(y, "%.6e"),
+                                 "y_unit": "W/m2/sr/nm", "y_error": fmt_array(sigma, "%.4e")},
+                    "emissivity": "constant",
+                    "radiance_temperature_at": at_nm,
+                    "ratio_pair": pair_nm},
+        "truth": {
+            "n_points": int(lam.size),
+            "temperature_K": t_true,
+            "emissivity": {"kind": "constant", "value": emissivity,
+                           "note": "grey: sample emissivity %.2f times window transmittance %.2f, the same at "
+                                   "every wavelength" % (emissivity_sample, window_transmittance)},
+            "noise": {"kind": "gaussian, sigma = 0.01*model", "relative": rel, "y_error_given": True},
+            "grid": "1000-2500 nm, step 5 nm",
+            "radiance_temperatures": [
+                {"wavelength_nm": nm, "value_K": radiance_temperature(nm * 1e-9, model_at[nm]),
+                 "from_data_K": radiance_temperature(nm * 1e-9, data_at(nm))} for nm in at_nm],
+            "radiance_temperature_note": "grey body: every radiance temperature lies below the true temperature",
+            "ratio_temperature": {
+                "pair_nm": pair_nm,
+                "value_K": ratio_temperature(pair_nm[0] * 1e-9, model_at[pair_nm[0]],
+                                             pair_nm[1] * 1e-9, model_at[pair_nm[1]]),
+                "from_data_K": ratio_temperature(pair_nm[0] * 1e-9, data_at(pair_nm[0]),
+                                                 pair_nm[1] * 1e-9, data_at(pair_nm[1])),
+                "note": "grey body: the emissivity cancels, so the ratio temperature of the model is the true "
+                        "temperature; from_data_K uses the two noisy data points"},
+        },
+    }
+
+
+def lab_entry(s):
+    entry = {"name": s["stem"], "object": s["object"], "json": s["stem"] + ".json",
+             "endpoint": s["endpoint"], "cli": "planckton %s %s.json" % (s["cli"], s["stem"]),
+             "x_unit": s["request"]["spectrum"]["x_unit"], "y_unit": s["request"]["spectrum"]["y_unit"],
+             "seed": s["seed"]}
+    entry.update(s["truth"])
+    return entry
+
+
 def cli_flags(s):
     return "--x-unit %s --y-unit %s" % (s["x_unit"], s["y_unit"])
 
@@ -366,10 +622,20 @@ def main():
         }
         entry.update(s["truth"])
         truth["samples"].append(entry)
+    lab_makers = [cinder_lamp, cinder_led, kiln_window]
+    cmf = read_cmf()
+    seed = BASE_SEED + len(makers)
+    lab = []
+    for i, mk in enumerate(lab_makers):
+        lab.append(mk(seed + i, cmf) if mk is not kiln_window else mk(seed + i))
+    truth["lab_samples"] = []
+    for s in lab:
+        write_text(s["stem"] + ".json", dump_json(s["request"]) + "\n")
+        truth["lab_samples"].append(lab_entry(s))
     write_text("truth.json", dump_json(truth) + "\n")
     write_batch(samples)
     if "--check" in sys.argv[1:]:
-        sys.exit(check(truth))
+        sys.exit(check(truth) | check_lab(truth, cmf))
 
 
 # ---------------------------------------------------------------------------
@@ -452,6 +718,39 @@ def check(truth):
               "%s  n=%d/%d  csv==json:%s  [%s]"
               % (e["name"], "OK  " if ok else "FAIL", t_fit, t_err, e["temperature_K"], z_t,
                  s_fit, s_err, s_true, z_s, extra, int(keep.sum()), x.size, same, how))
+    return 1 if failures else 0
+
+
+def check_lab(truth, cmf):
+    """Re-reads the lab requests: the colorimetry of the lamp and the LED again from the file, and a
+    grey-body curve_fit of the kiln spectrum against its truth (within 2 sigma)."""
+    from scipy.optimize import curve_fit
+
+    failures = 0
+    for e in truth["lab_samples"]:
+        with open(os.path.join(HERE, e["json"]), encoding="ascii") as fh:
+            sp = json.load(fh)["spectrum"]
+        x, y = np.array(sp["x"]), np.array(sp["y"])
+        if e["endpoint"] == "/v1/light":
+            c = light_truth(cmf, x, y)
+            ok = abs(c["cct_K"] - e["colorimetry"]["cct_K"]) < 1e-6 and abs(c["duv"] - e["colorimetry"]["duv"]) < 1e-12
+            print("%-22s %s  CCT = %.2f K  Duv = %+.5f  xy = (%.5f, %.5f)"
+                  % (e["name"], "OK  " if ok else "FAIL", c["cct_K"], c["duv"], c["x"], c["y"]))
+        else:
+            err = np.array(sp["y_error"])
+
+            def model(xx, t, eps):
+                return eps * planck_lambda(xx * 1e-9, t) / W_M2_SR_NM
+
+            p, cov = curve_fit(model, x, y, p0=(1200.0, 0.5), sigma=err, absolute_sigma=True)
+            z_t = (p[0] - e["temperature_K"]) / math.sqrt(cov[0, 0])
+            z_e = (p[1] - e["emissivity"]["value"]) / math.sqrt(cov[1, 1])
+            ok = abs(z_t) < 2.0 and abs(z_e) < 2.0
+            print("%-22s %s  T = %.2f +- %.2f K (true %.0f, %+.2f sigma)  emissivity = %.4f +- %.4f (true %.2f, "
+                  "%+.2f sigma)  [curve_fit(sigma=y_error, absolute_sigma=True)]"
+                  % (e["name"], "OK  " if ok else "FAIL", p[0], math.sqrt(cov[0, 0]), e["temperature_K"], z_t,
+                     p[1], math.sqrt(cov[1, 1]), e["emissivity"]["value"], z_e))
+        failures += not ok
     return 1 if failures else 0
 
 

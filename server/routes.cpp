@@ -14,6 +14,7 @@
 
 #include "api/catalogue.h"
 #include "api/fit_service.h"
+#include "api/lab_documents.h"
 #include "api/problem.h"
 #include "connection_queue.h"
 
@@ -125,6 +126,18 @@ class Routes {
               (type.empty() ? std::string("no Content-Type") : type) + "'",
           {"application/json", "text/csv", "text/tab-separated-values", "text/plain"}));
     }
+    count_fit(document);
+    send_json(response, document);
+  }
+
+  void light(const httplib::Request& request, httplib::Response& response) {
+    require_json(request, "/v1/light");
+    send_json(response, api::light_source_text(request.body, limits_));
+  }
+
+  void hot_body(const httplib::Request& request, httplib::Response& response) {
+    require_json(request, "/v1/hot-body");
+    const nlohmann::ordered_json document = api::hot_body_text(request.body, limits_);
     count_fit(document);
     send_json(response, document);
   }
@@ -298,6 +311,19 @@ class Routes {
     return origin;
   }
 
+  static void require_json(const httplib::Request& request, const std::string& path) {
+    const std::string type = media_type(request);
+    if (type != "application/json") {
+      throw ProblemError(api::unsupported_media_type(
+          "POST " + path + " takes a JSON request (Content-Type: application/json); got '" +
+              (type.empty() ? std::string("no Content-Type") : type) + "'",
+          {"application/json"}));
+    }
+    if (!request.params.empty()) {
+      throw ProblemError(api::invalid_parameter(request.params.begin()->first, "this endpoint takes no query parameters"));
+    }
+  }
+
   // An answer before the body is read: the connection is closed after it, so that the unread body
   // is never taken for the next request.
   static httplib::Server::HandlerResponse answer_early(httplib::Response& response, const Problem& problem) {
@@ -306,7 +332,9 @@ class Routes {
     return httplib::Server::HandlerResponse::Handled;
   }
 
-  static bool is_fit_route(const std::string& path) { return path == "/v1/fit" || path == "/v1/fit/batch"; }
+  static bool is_fit_route(const std::string& path) {
+    return path == "/v1/fit" || path == "/v1/fit/batch" || path == "/v1/hot-body";
+  }
 
   void count_fit(const nlohmann::ordered_json& document) {
     metrics_.record_fit(document.value("model", std::string("planck")));
@@ -347,6 +375,7 @@ class Routes {
 const Route* find_route(const std::string& path) {
   static const std::vector<Route> kRoutes = {
       {"/v1/fit", {"POST"}, &Routes::fit},          {"/v1/fit/batch", {"POST"}, &Routes::batch},
+      {"/v1/light", {"POST"}, &Routes::light},      {"/v1/hot-body", {"POST"}, &Routes::hot_body},
       {"/v1/models", {"GET"}, &Routes::models},     {"/v1/units", {"GET"}, &Routes::units},
       {"/v1/health", {"GET"}, &Routes::health},     {"/metrics", {"GET"}, &Routes::metrics_text},
       {"/openapi.yaml", {"GET"}, &Routes::openapi},

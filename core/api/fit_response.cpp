@@ -26,13 +26,17 @@ json interval(const std::optional<std::array<double, 2>>& bounds, double factor)
   return bounds ? json::array({(*bounds)[0] * factor, (*bounds)[1] * factor}) : json(nullptr);
 }
 
-json estimate_json(const Estimate& e, const char* unit, double factor = 1.0) {
+}  // namespace
+
+nlohmann::ordered_json estimate_json(const Estimate& e, const char* unit, double factor) {
   return {{"value", e.value * factor},
           {"unit", unit},
           {"error", optional_number(e.error, factor)},
           {"interval_68", interval(e.interval_68, factor)},
           {"interval_95", interval(e.interval_95, factor)}};
 }
+
+namespace {
 
 // Wavelength intervals come out of the monomial map in increasing order already (exp is monotone
 // and the bounds are built as value * exp(-+sigma)).
@@ -94,7 +98,10 @@ json derived_json(const DerivedQuantities& d) {
   return doc;
 }
 
-json statistics_json(const FitRequest& request, const MeasuredSpectrum& spectrum, const PlanckFitResult& fit) {
+}  // namespace
+
+nlohmann::ordered_json statistics_json(const FitRequest& request, const MeasuredSpectrum& spectrum,
+                                       const PlanckFitResult& fit) {
   json doc = {{"chi_square", optional_number(fit.chi_square)},
               {"degrees_of_freedom", fit.degrees_of_freedom},
               {"reduced_chi_square", nullptr},
@@ -115,7 +122,15 @@ json statistics_json(const FitRequest& request, const MeasuredSpectrum& spectrum
   return doc;
 }
 
-}  // namespace
+nlohmann::ordered_json warnings_json(const std::vector<FitWarning>& warnings) {
+  json list = json::array();
+  for (const FitWarning& w : warnings) list.push_back({{"code", w.code}, {"message", w.message}});
+  return list;
+}
+
+nlohmann::ordered_json provenance_json() {
+  return {{"version", PLANCKTON_VERSION}, {"constants", constants::kSource}, {"solver", "Ceres Solver"}};
+}
 
 nlohmann::ordered_json make_fit_response(const FitRequest& request, const MeasuredSpectrum& spectrum, const PlanckFitResult& fit,
                        const DerivedQuantities& derived) {
@@ -123,8 +138,7 @@ nlohmann::ordered_json make_fit_response(const FitRequest& request, const Measur
   for (const PeakEstimate& peak : derived.peaks) peaks[peak.id] = peak_json(peak);
   peaks["of_data"] = data_peak_id(spectrum.y_unit.convention);
 
-  json warnings = json::array();
-  for (const FitWarning& w : fit.warnings) warnings.push_back({{"code", w.code}, {"message", w.message}});
+  const json warnings = warnings_json(fit.warnings);
 
   const double correlation = fit.covariance_available ? fit.log_correlation() : 0.0;
   json response = {
@@ -157,8 +171,7 @@ nlohmann::ordered_json make_fit_response(const FitRequest& request, const Measur
         {"message", fit.solver_message},
         {"start_temperature", fit.start_temperature_k}}},
       {"warnings", warnings},
-      {"provenance",
-       {{"version", PLANCKTON_VERSION}, {"constants", constants::kSource}, {"solver", "Ceres Solver"}}},
+      {"provenance", provenance_json()},
   };
   if (!request.id) return response;
   json with_id = {{"id", *request.id}};

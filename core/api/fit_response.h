@@ -6,11 +6,20 @@
 // luminosities (IAU 2015 Resolution B3: R_sun = 6.957e8 m, L_sun = 3.828e26 W).
 #pragma once
 
-#include <nlohmann/json_fwd.hpp>
+#include <vector>
+
+#include <nlohmann/json.hpp>
 
 #include "api/fit_request.h"
 
 namespace planckton::api {
+
+// Pieces of the response that other documents (the laboratory endpoints) share.
+nlohmann::ordered_json estimate_json(const Estimate& estimate, const char* unit, double factor = 1.0);
+nlohmann::ordered_json statistics_json(const FitRequest& request, const MeasuredSpectrum& spectrum,
+                                       const PlanckFitResult& fit);
+nlohmann::ordered_json warnings_json(const std::vector<FitWarning>& warnings);
+nlohmann::ordered_json provenance_json();
 
 nlohmann::ordered_json make_fit_response(const FitRequest& request, const MeasuredSpectrum& spectrum,
                                  const PlanckFitResult& fit, const DerivedQuantities& derived);

@@ -12,7 +12,9 @@
 #include <memory>
 #include <limits>
 #include <numeric>
+#include <optional>
 
+#include "science/ceres_settings.h"
 #include "science/constants.h"
 #include "science/input_error.h"
 #include "science/peaks.h"
@@ -29,9 +31,6 @@ constexpr std::size_t kStartSubsample = 48;
 constexpr double kExpm1Threshold = 1e-3;
 constexpr double kStartGridRatio = 2.0;
 constexpr int kGoldenSectionSteps = 16;
-// Relative step at which the local solve stops: the temperature is then known to ~1e-9 relative,
-// far inside any interval it is quoted with.
-constexpr double kParameterTolerance = 1e-10;
 // The reduced frequency range over which data constrain a temperature (see the header).
 constexpr double kStartMinX = 1e-3;
 constexpr double kStartMaxX = 300.0;
@@ -199,15 +198,6 @@ struct PlanckTinyProblem {
   }
 };
 
-std::unique_ptr<ceres::LossFunction> make_loss(RobustLoss loss, double scale) {
-  switch (loss) {
-    case RobustLoss::kNone: return nullptr;
-    case RobustLoss::kHuber: return std::make_unique<ceres::HuberLoss>(scale);
-    case RobustLoss::kCauchy: return std::make_unique<ceres::CauchyLoss>(scale);
-  }
-  return nullptr;
-}
-
 // rho(s) of the loss for a squared residual s, as Ceres defines it (loss_function.h).
 double robust_rho(RobustLoss loss, double scale, double s) {
   const double b = scale * scale;
@@ -350,19 +340,10 @@ bool gauss_newton_covariance(const PlanckKernel& kernel, std::array<double, 4>& 
   return true;
 }
 
-std::string termination_name(const ceres::Solver::Summary& summary) {
-  switch (summary.termination_type) {
-    case ceres::CONVERGENCE:
-    case ceres::USER_SUCCESS: return "converged";
-    case ceres::NO_CONVERGENCE:
-      return summary.message.find("time") != std::string::npos ? "time_limit" : "iteration_limit";
-    default: return "failed";
-  }
-}
-
 struct Bounds {
   double log_t_min;
   double log_t_max;
+  std::optional<double> log_scale_max;
 };
 
 struct SolveOutcome {
@@ -386,7 +367,7 @@ SolveOutcome solve_small_dense(const PlanckKernel& kernel, double* parameters, c
   constexpr int kIterationsPerRound = 20;
   const auto started = std::chrono::steady_clock::now();
   Solver solver;
-  solver.options.parameter_tolerance = kParameterTolerance;
+  solver.options.parameter_tolerance = ceres_settings::kParameterTolerance;
   solver.options.function_tolerance = 0.0;
   solver.options.gradient_tolerance = 0.0;
   solver.options.cost_threshold = 0.0;
@@ -423,6 +404,44 @@ SolveOutcome solve_small_dense(const PlanckKernel& kernel, double* parameters, c
 }
 #pragma GCC diagnostic pop
 
+// The best ln T at a fixed ln scale, by Gauss-Newton in ln T alone with step halving (each step
+// must lower the cost), kept within the temperature bounds. With the scale held at its upper
+// bound it starts the general path on (or next to) the bounded optimum: a cost that is nearly
+// quadratic and whose free optimum lies above the bound has its bounded optimum on the bound, and
+// Ceres' projected steps along the bound would otherwise approach it only slowly when temperature
+// and scale are strongly correlated.
+double refine_temperature_at_scale(const PlanckKernel& kernel, double log_temperature, double log_scale,
+                                   const Bounds& bounds) {
+  const Eigen::Index n = static_cast<Eigen::Index>(kernel.terms().size());
+  Eigen::ArrayXd residuals(n), d_log_temperature(n), d_log_scale(n);
+  const auto cost_at = [&](double log_t) {
+    kernel.evaluate(log_t, log_scale, 0, n);
+    kernel.residuals(0, n, residuals.data());
+    return residuals.square().sum();
+  };
+  double cost = cost_at(log_temperature);
+  for (int iteration = 0; iteration < 50 && std::isfinite(cost); ++iteration) {
+    kernel.jacobian_columns(0, n, d_log_temperature.data(), d_log_scale.data());
+    const double curvature = d_log_temperature.square().sum();
+    if (!(curvature > 0.0)) break;
+    double step = -(d_log_temperature * residuals).sum() / curvature;
+    bool improved = false;
+    for (int halving = 0; halving < 30 && !improved; ++halving, step *= 0.5) {
+      const double trial = std::clamp(log_temperature + step, bounds.log_t_min, bounds.log_t_max);
+      const double trial_cost = cost_at(trial);
+      if (trial_cost <= cost) {
+        improved = true;
+        const bool done = std::abs(trial - log_temperature) < ceres_settings::kParameterTolerance;
+        log_temperature = trial;
+        cost = trial_cost;
+        if (done) return log_temperature;
+      }
+    }
+    if (!improved) break;  // otherwise the kernel and residuals hold the accepted point
+  }
+  return log_temperature;
+}
+
 // General path: a ceres::Problem with bounds on ln T and, for a robust loss, one residual block
 // per point so that the loss acts on each point; ceres::Covariance at the solution.
 SolveOutcome solve_general(const PlanckKernel& kernel, double* parameters, const PlanckFitOptions& options,
@@ -431,7 +450,7 @@ SolveOutcome solve_general(const PlanckKernel& kernel, double* parameters, const
   ceres::Problem::Options problem_options;
   problem_options.loss_function_ownership = ceres::DO_NOT_TAKE_OWNERSHIP;
   ceres::Problem problem(problem_options);
-  std::unique_ptr<ceres::LossFunction> loss = make_loss(options.loss, options.loss_scale);
+  std::unique_ptr<ceres::LossFunction> loss = ceres_settings::make_loss(options.loss, options.loss_scale);
   if (loss) {
     for (Eigen::Index i = 0; i < n; ++i) {
       problem.AddResidualBlock(new PlanckResiduals(&kernel, i, i + 1), loss.get(), parameters);
@@ -441,21 +460,14 @@ SolveOutcome solve_general(const PlanckKernel& kernel, double* parameters, const
   }
   problem.SetParameterLowerBound(parameters, 0, bounds.log_t_min);
   problem.SetParameterUpperBound(parameters, 0, bounds.log_t_max);
+  if (bounds.log_scale_max) problem.SetParameterUpperBound(parameters, 1, *bounds.log_scale_max);
 
-  ceres::Solver::Options solver_options;
-  solver_options.linear_solver_type = ceres::DENSE_QR;
-  solver_options.max_num_iterations = options.max_iterations;
-  solver_options.max_solver_time_in_seconds = options.time_budget_seconds;
-  solver_options.function_tolerance = 1e-15;
-  solver_options.parameter_tolerance = kParameterTolerance;
-  solver_options.gradient_tolerance = 1e-20;
-  solver_options.logging_type = ceres::SILENT;
-  solver_options.num_threads = 1;
+  const ceres::Solver::Options solver_options = ceres_settings::solver_options(options.max_iterations, options.time_budget_seconds);
   ceres::Solver::Summary summary;
   ceres::Solve(solver_options, &problem, &summary);
 
   SolveOutcome outcome;
-  outcome.termination = termination_name(summary);
+  outcome.termination = ceres_settings::termination_name(summary);
   outcome.message = summary.message;
   outcome.iterations = static_cast<int>(summary.iterations.size()) - 1;
 
@@ -480,6 +492,9 @@ void validate_options(const PlanckFitOptions& options) {
   if (options.max_iterations < 1) throw InputError("options.max_iterations", "must be at least 1");
   if (!(options.time_budget_seconds > 0.0)) {
     throw InputError("options.time_budget_seconds", "must be positive");
+  }
+  if (options.max_scale && (!(*options.max_scale > 0.0) || !std::isfinite(*options.max_scale))) {
+    throw InputError("options.max_scale", "must be a positive finite number");
   }
 }
 
@@ -552,7 +567,9 @@ PlanckFitResult fit_planck(const MeasuredSpectrum& spectrum, const PlanckFitOpti
   const PointTerms subsample =
       make_point_terms(spectrum, evenly_spaced_subsample(spectrum, kStartSubsample), uniform_weight);
 
-  const Bounds bounds{std::log(options.min_temperature_k), std::log(options.max_temperature_k)};
+  std::optional<double> log_scale_max;
+  if (options.max_scale) log_scale_max = std::log(*options.max_scale);
+  const Bounds bounds{std::log(options.min_temperature_k), std::log(options.max_temperature_k), log_scale_max};
   const bool robust = options.loss != RobustLoss::kNone;
 
   PlanckFitResult result;
@@ -577,11 +594,20 @@ PlanckFitResult fit_planck(const MeasuredSpectrum& spectrum, const PlanckFitOpti
   if (!robust) {
     outcome = solve_small_dense(kernel, parameters, options);
     const bool inside = parameters[0] >= bounds.log_t_min && parameters[0] <= bounds.log_t_max;
-    if (!inside || !std::isfinite(parameters[0]) || !std::isfinite(parameters[1])) {
+    const bool finite = std::isfinite(parameters[0]) && std::isfinite(parameters[1]);
+    if (!inside || !finite) {
       general = true;
       parameters[0] = start.log_temperature;
       parameters[1] = start.log_scale;
+    } else if (log_scale_max && parameters[1] > *log_scale_max) {
+      general = true;  // above the scale's bound
     }
+  }
+  if (general && log_scale_max && parameters[1] > *log_scale_max) {
+    // Ceres needs a feasible start, and the bounded optimum lies on the bound (or next to it): start
+    // from the best temperature with the scale at the bound.
+    parameters[1] = *log_scale_max;
+    parameters[0] = refine_temperature_at_scale(kernel, parameters[0], parameters[1], bounds);
   }
   if (general) outcome = solve_general(kernel, parameters, options, bounds);
 
@@ -593,6 +619,7 @@ PlanckFitResult fit_planck(const MeasuredSpectrum& spectrum, const PlanckFitOpti
   result.scale = std::exp(parameters[1]);
   result.temperature_at_bound = std::abs(parameters[0] - bounds.log_t_min) < 1e-9 ||
                                 std::abs(parameters[0] - bounds.log_t_max) < 1e-9;
+  result.scale_at_bound = log_scale_max && std::abs(parameters[1] - *log_scale_max) < 1e-9;
 
   // Plain chi-square of the final residuals (not the robust cost).
   Eigen::ArrayXd residuals(static_cast<Eigen::Index>(n));

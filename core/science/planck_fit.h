@@ -17,8 +17,9 @@
 //     431 (1963)) in Ceres Solver over (ln T, ln scale), so both stay positive, with an analytic
 //     Jacobian. Residuals are (y - model) / sigma. Plain least squares runs ceres::TinySolver (small
 //     dense problems, no set-up cost), in rounds so that the time budget is checked; a robust loss
-//     (Huber 1964, or Cauchy), or a solution outside the temperature bounds, runs a ceres::Problem
-//     with ln T bounded and each point its own residual block so that the loss acts per point.
+//     (Huber 1964, or Cauchy), or a solution outside the temperature bounds (or above
+//     options.max_scale), runs a ceres::Problem with ln T bounded (and ln scale, when max_scale is
+//     set) and each point its own residual block so that the loss acts per point.
 //  3. Covariance: (J^T J)^-1 at the solution: the Gauss-Newton formula on the fast path, and
 //     ceres::Covariance on the general one (a test checks that they agree). Without y_error every
 //     point has equal weight and the covariance is multiplied by chi^2 / dof, the residual variance
@@ -58,6 +59,12 @@ struct PlanckFitOptions {
   // (termination "iteration_limit" or "time_limit").
   int max_iterations = 200;
   double time_budget_seconds = 10.0;
+  // Optional upper bound on the scale (e.g. 1 for an emissivity; see radiometry.h). When the fast
+  // path ends above it, the fit is solved again on the general path with ln scale bounded above,
+  // started on the bound at the temperature that is best there (Gauss-Newton in ln T alone); a
+  // result at the bound is flagged (scale_at_bound). Its covariance is then the curvature of the
+  // unconstrained cost there, so the scale's interval is one-sided in truth.
+  std::optional<double> max_scale;
 };
 
 struct FitWarning {
@@ -80,6 +87,7 @@ struct PlanckFitResult {
   std::array<double, 4> log_covariance{};
   bool covariance_available = false;
   bool temperature_at_bound = false;
+  bool scale_at_bound = false;  // at options.max_scale
 
   // Goodness of fit. chi_square and p_value are absent when the errors were estimated.
   std::size_t points_used = 0;
@@ -98,7 +106,7 @@ struct PlanckFitResult {
 };
 
 // Throws InputError when the spectrum has fewer points than free parameters or the options are
-// inconsistent (field names: "options.temperature_bounds", "options.loss").
+// inconsistent (field names: "options.temperature_bounds", "options.loss", "options.max_scale").
 PlanckFitResult fit_planck(const MeasuredSpectrum& spectrum, const PlanckFitOptions& options);
 
 }  // namespace planckton
