@@ -69,19 +69,10 @@ void parse_model(const element& value, FitRequest& request) {
   if (request.model_kind != "planck") fail(m.at("kind"), "is not a known model", {"planck"});
 }
 
-void parse_id(const element& value, FitRequest& request) {
-  if (value.is_string()) {
-    request.id = std::string(value.get_string().value_unsafe());
-  } else if (value.is_int64()) {
-    request.id = value.get_int64().value_unsafe();
-  } else {
-    fail("/id", std::string("must be a string or an integer, is ") + type_name(value));
-  }
-}
 
 // One parser per thread: simdjson reuses its buffers from one document to the next.
 void apply_members(const Members& top, FitRequest& request) {
-  if (const auto e = top.find("id")) parse_id(*e, request);
+  if (const auto e = top.find("id")) request.id = request_id(*e);
   if (const auto e = top.find("model")) parse_model(*e, request);
   if (const auto e = top.find("options")) parse_options(*e, request);
 }

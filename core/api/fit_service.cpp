@@ -19,6 +19,12 @@ std::vector<std::string> accepted_for_field(const std::string& field) {
   return {};
 }
 
+}  // namespace
+
+ProblemError problem_for(const InputError& e) {
+  return ProblemError(invalid_value(pointer_for_field(e.field(), e.index()), e.what(), accepted_for_field(e.field())));
+}
+
 void apply_limits(const ServiceLimits& limits, FitRequest& request) {
   if (limits.max_points > 0 && request.spectrum.x.size() > limits.max_points) {
     throw ProblemError(payload_too_large("the spectrum has " + std::to_string(request.spectrum.x.size()) +
@@ -29,6 +35,8 @@ void apply_limits(const ServiceLimits& limits, FitRequest& request) {
     budget = request.time_budget_given ? std::min(budget, limits.max_time_budget_seconds) : limits.max_time_budget_seconds;
   }
 }
+
+namespace {
 
 // "/spectrum/{x,y,y_error}/<row>" -> the table line of that row; other pointers have no line.
 std::optional<std::size_t> table_line_of(const std::string& pointer, const Table& table) {
@@ -138,7 +146,7 @@ nlohmann::ordered_json fit(FitRequest request, const ServiceLimits& limits) {
     const DerivedQuantities derived = derive_quantities(result, spectrum.y_unit, distance);
     return make_fit_response(request, spectrum, result, derived);
   } catch (const InputError& e) {
-    throw ProblemError(invalid_value(pointer_for_field(e.field(), e.index()), e.what(), accepted_for_field(e.field())));
+    throw problem_for(e);
   }
 }
 

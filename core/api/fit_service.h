@@ -14,7 +14,9 @@
 #include <nlohmann/json.hpp>
 
 #include "api/fit_request.h"
+#include "api/problem.h"
 #include "api/table_reader.h"
+#include "science/input_error.h"
 
 namespace planckton::api {
 
@@ -23,6 +25,13 @@ struct ServiceLimits {
   std::size_t max_points = 0;
   double max_time_budget_seconds = 0.0;  // a request may ask for less, never more
 };
+
+// The problem document of a science InputError: the pointer of its field and what is accepted.
+ProblemError problem_for(const InputError& error);
+
+// The service's limits applied to a parsed request: too many points is a 413 problem; the time
+// budget is capped.
+void apply_limits(const ServiceLimits& limits, FitRequest& request);
 
 // A parsed request -> the response document.
 nlohmann::ordered_json fit(FitRequest request, const ServiceLimits& limits = {});

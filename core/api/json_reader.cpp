@@ -90,6 +90,12 @@ std::vector<std::array<double, 2>> ranges_at(const element& value, const std::st
   return ranges;
 }
 
+nlohmann::ordered_json request_id(const element& value) {
+  if (value.is_string()) return std::string(value.get_string().value_unsafe());
+  if (value.is_int64()) return value.get_int64().value_unsafe();
+  fail("/id", std::string("must be a string or an integer, is ") + type_name(value));
+}
+
 SpectrumInput parse_spectrum(const element& value) {
   const Members s(value, "/spectrum", {"x", "x_unit", "y", "y_unit", "y_error", "exclude"});
   SpectrumInput spectrum;

@@ -13,6 +13,8 @@
 #include <utility>
 #include <vector>
 
+#include <nlohmann/json.hpp>
+
 #include "science/spectrum.h"
 
 namespace planckton::api {
@@ -75,6 +77,9 @@ std::string string_at(const element& value, const std::string& pointer);
 std::vector<double> numbers_at(const element& value, const std::string& pointer);
 std::array<double, 2> pair_at(const element& value, const std::string& pointer);
 std::vector<std::array<double, 2>> ranges_at(const element& value, const std::string& pointer);
+
+// A request's "id": a string or an integer, echoed in the response.
+nlohmann::ordered_json request_id(const element& value);
 
 // {"x", "x_unit", "y", "y_unit", "y_error", "exclude"} at pointer "/spectrum".
 SpectrumInput parse_spectrum(const element& value);

@@ -3,7 +3,6 @@
 #include <algorithm>
 #include <limits>
 #include <cmath>
-#include <numeric>
 
 #include "api/fit_response.h"
 #include "api/json_reader.h"
@@ -24,47 +23,6 @@ constexpr double kNanometre = 1e-9;
 // CIE 015:2018: the visible range over which colorimetry, and the distribution temperature, are taken.
 constexpr double kVisibleMin = 380e-9, kVisibleMax = 780e-9;
 
-// A spectrum as wavelength (m, increasing) and power per unit wavelength (energy, SI), whatever its
-// units: per-frequency densities are converted (P_lambda = P_nu nu^2 / c). Photon counts are
-// refused: colorimetry and radiance temperatures are defined on energy.
-struct WavelengthSpectrum {
-  std::vector<double> wavelength_m;
-  std::vector<double> power;
-  std::vector<std::size_t> source_index;  // the point's index in the spectrum as given
-};
-
-WavelengthSpectrum per_wavelength(const MeasuredSpectrum& s) {
-  const Convention c = s.y_unit.convention;
-  if (c != Convention::kEnergyPerWavelength && c != Convention::kEnergyPerFrequency) {
-    fail("/spectrum/y_unit", "must be an energy density per unit wavelength or frequency (e.g. relative/nm, "
-                             "W/m2/sr/nm, W/m2/nm); photon counts and other conventions are not accepted here",
-         {"relative/nm", "W/m2/nm", "W/m2/sr/nm", "W/m2/sr/um", "W/m2/sr/Hz"});
-  }
-  std::vector<std::size_t> order(s.size());
-  std::iota(order.begin(), order.end(), 0);
-  std::sort(order.begin(), order.end(), [&](std::size_t a, std::size_t b) { return s.frequency_hz[a] > s.frequency_hz[b]; });
-  WavelengthSpectrum out;
-  for (std::size_t i : order) {
-    out.source_index.push_back(i);
-    const double nu = s.frequency_hz[i];
-    out.wavelength_m.push_back(constants::kSpeedOfLight / nu);
-    const double factor = c == Convention::kEnergyPerFrequency ? nu * nu / constants::kSpeedOfLight : 1.0;
-    out.power.push_back(s.value_si[i] * factor);
-  }
-  return out;
-}
-
-// Linear interpolation of the spectrum at a wavelength inside its range.
-std::optional<double> interpolate(const WavelengthSpectrum& s, double wavelength_m) {
-  const auto& w = s.wavelength_m;
-  if (w.empty() || wavelength_m < w.front() || wavelength_m > w.back()) return std::nullopt;
-  const auto upper = std::lower_bound(w.begin(), w.end(), wavelength_m);
-  const std::size_t j = static_cast<std::size_t>(upper - w.begin());
-  if (j == 0) return s.power[0];
-  const double t = (wavelength_m - w[j - 1]) / (w[j] - w[j - 1]);
-  return s.power[j - 1] + t * (s.power[j] - s.power[j - 1]);
-}
-
 // A wavelength given in the spectrum's x_unit, in nm; exact for nm input.
 double wavelength_nm_of(const SpectralAxisUnit& unit, double value) {
   if (unit.kind == SpectralAxisKind::kWavelength && value > 0.0 && std::isfinite(value)) return value * (unit.to_si / kNanometre);
@@ -77,7 +35,7 @@ auto with_pointers(Work&& work) -> decltype(work()) {
   try {
     return work();
   } catch (const InputError& e) {
-    throw ProblemError(invalid_value(pointer_for_field(e.field(), e.index()), e.what()));
+    throw problem_for(e);
   }
 }
 
@@ -131,20 +89,6 @@ json cct_json(const CorrelatedColourTemperature& cct) {
   return doc;
 }
 
-void apply_budget(const ServiceLimits& limits, PlanckFitOptions& options, bool given) {
-  if (limits.max_time_budget_seconds > 0.0) {
-    options.time_budget_seconds =
-        given ? std::min(options.time_budget_seconds, limits.max_time_budget_seconds) : limits.max_time_budget_seconds;
-  }
-}
-
-void check_points(const ServiceLimits& limits, const SpectrumInput& spectrum) {
-  if (limits.max_points > 0 && spectrum.x.size() > limits.max_points) {
-    throw ProblemError(payload_too_large("the spectrum has " + std::to_string(spectrum.x.size()) +
-                                         " points; this service takes at most " + std::to_string(limits.max_points)));
-  }
-}
-
 }  // namespace
 
 const std::vector<std::string>& laboratory_cautions() {
@@ -159,22 +103,18 @@ const std::vector<std::string>& laboratory_cautions() {
 nlohmann::ordered_json light_source_text(std::string_view text, const ServiceLimits& limits) {
   const element root = parse_text(text);
   const Members top(root, "", {"id", "spectrum", "observer"});
-  SpectrumInput input = parse_spectrum(top.require("spectrum"));
-  check_points(limits, input);
-  if (!input.exclude.empty()) {
+  FitRequest request;  // the spectrum, and the budget of the distribution-temperature fit
+  request.spectrum = parse_spectrum(top.require("spectrum"));
+  apply_limits(limits, request);
+  if (!request.spectrum.exclude.empty()) {
     fail("/spectrum/exclude", "is not taken here: colorimetry needs the whole visible spectrum, and a masked "
                               "range would be interpolated across");
   }
   const Observer observer = parse_observer(top.find("observer"));
-  std::optional<json> id;
-  if (const auto e = top.find("id")) {
-    if (e->is_string()) id = std::string(e->get_string().value_unsafe());
-    else if (e->is_int64()) id = e->get_int64().value_unsafe();
-    else fail("/id", "must be a string or an integer");
-  }
+  if (const auto e = top.find("id")) request.id = request_id(*e);
   return with_pointers([&] {
-    const MeasuredSpectrum spectrum = prepare_spectrum(input);
-    const WavelengthSpectrum s = per_wavelength(spectrum);
+    const MeasuredSpectrum spectrum = prepare_spectrum(request.spectrum);
+    const WavelengthSpectrum s = energy_per_wavelength(spectrum);
     // The colorimetry sees the points sorted by wavelength; its problems name them as given.
     const auto colour_of = [&](Observer o) {
       try {
@@ -188,9 +128,7 @@ nlohmann::ordered_json light_source_text(std::string_view text, const ServiceLim
     // CCT and Duv are defined in the CIE 1931 2-degree observer's uv (CIE 015:2018).
     const Chromaticity two_degree = observer == Observer::kCie1931TwoDegree ? colour : colour_of(Observer::kCie1931TwoDegree);
     const CorrelatedColourTemperature cct = correlated_colour_temperature(two_degree.u, two_degree.v);
-    PlanckFitOptions options;
-    apply_budget(limits, options, false);
-    const PlanckFitResult fit = distribution_temperature(spectrum, options);
+    const PlanckFitResult fit = distribution_temperature(spectrum, request.fit_options);
     const DerivedQuantities derived = derive_quantities(fit, spectrum.y_unit, std::nullopt);
 
     std::vector<FitWarning> warnings = fit.warnings;
@@ -201,7 +139,7 @@ nlohmann::ordered_json light_source_text(std::string_view text, const ServiceLim
     if (!cct.cct_k) warnings.push_back({"cct_withheld", "the correlated colour temperature is withheld (see cct.reason)"});
 
     json doc;
-    if (id) doc["id"] = *id;
+    if (request.id) doc["id"] = *request.id;
     doc["observer"] = observer_name(observer);
     doc["range_nm"] = {kVisibleMin / kNanometre, kVisibleMax / kNanometre};
     doc["interpolation"] = "linear to the 5 nm grid of the colour-matching functions (CIE 015:2018)";
@@ -226,15 +164,9 @@ nlohmann::ordered_json hot_body_text(std::string_view text, const ServiceLimits&
   const Members top(root, "", {"id", "spectrum", "emissivity", "radiance_temperature_at", "ratio_pair", "options"});
   FitRequest request;
   request.spectrum = parse_spectrum(top.require("spectrum"));
-  check_points(limits, request.spectrum);
   if (const auto e = top.find("options")) parse_fit_options(*e, request);
-  apply_budget(limits, request.fit_options, request.time_budget_given);
-  std::optional<json> id;
-  if (const auto e = top.find("id")) {
-    if (e->is_string()) id = std::string(e->get_string().value_unsafe());
-    else if (e->is_int64()) id = e->get_int64().value_unsafe();
-    else fail("/id", "must be a string or an integer");
-  }
+  apply_limits(limits, request);
+  if (const auto e = top.find("id")) request.id = request_id(*e);
   bool linear = false;
   if (const auto e = top.find("emissivity")) {
     const std::string form = string_at(*e, "/emissivity");
@@ -253,13 +185,13 @@ nlohmann::ordered_json hot_body_text(std::string_view text, const ServiceLimits&
                                "the measured radiance with a black body's",
            {"W/m2/sr/nm", "W/m2/sr/um", "W/m2/sr/Hz", "MJy/sr", "Jy/sr"});
     }
-    const WavelengthSpectrum s = per_wavelength(spectrum);
+    const WavelengthSpectrum s = energy_per_wavelength(spectrum);
     GreyBodyFitOptions options{request.fit_options, linear};
     const GreyBodyFitResult grey = fit_grey_body(spectrum, options);
     const DerivedQuantities derived = derive_quantities(grey.planck, spectrum.y_unit, std::nullopt);
 
     json doc;
-    if (id) doc["id"] = *id;
+    if (request.id) doc["id"] = *request.id;
     doc["model"] = linear ? "grey_body_linear" : "grey_body";
     doc["status"] = grey.planck.converged ? "converged" : "not_converged";
     json parameters;
@@ -290,7 +222,7 @@ nlohmann::ordered_json hot_body_text(std::string_view text, const ServiceLimits&
       const std::string pointer = "/radiance_temperature_at/" + std::to_string(i);
       if (!(at[i] > 0.0)) fail(pointer, "must be a positive wavelength in x_unit");
       const double wavelength_nm = wavelength_nm_of(spectrum.x_unit, at[i]);
-      const auto radiance = interpolate(s, wavelength_nm * kNanometre);
+      const auto radiance = interpolate_power(s, wavelength_nm * kNanometre);
       if (!radiance || !(*radiance > 0.0)) fail(pointer, "is outside the measured range, or the radiance there is not positive");
       radiance_temperatures.push_back(
           {{"wavelength", wavelength_nm}, {"value", radiance_temperature(wavelength_nm * kNanometre, *radiance)}});
@@ -303,7 +235,7 @@ nlohmann::ordered_json hot_body_text(std::string_view text, const ServiceLimits&
       for (int k = 0; k < 2; ++k) {
         if (!((*pair)[k] > 0.0)) fail("/ratio_pair/" + std::to_string(k), "must be a positive wavelength in x_unit");
         wavelengths[k] = wavelength_nm_of(spectrum.x_unit, (*pair)[k]) * kNanometre;
-        const auto radiance = interpolate(s, wavelengths[k]);
+        const auto radiance = interpolate_power(s, wavelengths[k]);
         if (!radiance || !(*radiance > 0.0)) {
           fail("/ratio_pair/" + std::to_string(k), "is outside the measured range, or the radiance there is not positive");
         }

@@ -25,10 +25,6 @@ Problem malformed_document(std::string detail, std::optional<std::size_t> line) 
           line, std::nullopt, {}};
 }
 
-Problem invalid_argument(std::string detail, std::vector<std::string> accepted) {
-  return invalid_value(std::nullopt, std::move(detail), std::move(accepted));
-}
-
 Problem invalid_value(std::optional<std::string> pointer, std::string detail, std::vector<std::string> accepted) {
   return {"/problems/invalid-value", "A value in the request is not acceptable", 422, std::move(detail),
           std::move(pointer), std::nullopt, std::nullopt, std::move(accepted)};

@@ -45,8 +45,6 @@ class ProblemError : public std::exception {
 // The kinds of problem planckton reports.
 Problem malformed_document(std::string detail, std::optional<std::size_t> line = std::nullopt);
 Problem invalid_value(std::optional<std::string> pointer, std::string detail, std::vector<std::string> accepted = {});
-// A problem with the way a front end was called (a flag, a table column), not with a document value.
-Problem invalid_argument(std::string detail, std::vector<std::string> accepted = {});
 Problem unsupported_feature(std::string pointer, std::string detail, std::vector<std::string> accepted = {});
 Problem invalid_parameter(std::string parameter, std::string detail, std::vector<std::string> accepted = {});
 Problem payload_too_large(std::string detail);

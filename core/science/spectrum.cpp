@@ -2,6 +2,9 @@
 
 #include <algorithm>
 #include <cmath>
+#include <numeric>
+
+#include "science/constants.h"
 
 #include "science/input_error.h"
 
@@ -94,6 +97,35 @@ MeasuredSpectrum prepare_spectrum(const SpectrumInput& input) {
                           "everywhere, so the curve cannot be fitted");
   }
   return spectrum;
+}
+
+WavelengthSpectrum energy_per_wavelength(const MeasuredSpectrum& s) {
+  const Convention c = s.y_unit.convention;
+  if (c != Convention::kEnergyPerWavelength && c != Convention::kEnergyPerFrequency) {
+    throw InputError("y_unit", "must be an energy density per unit wavelength or frequency (e.g. relative/nm, "
+                               "W/m2/sr/nm, W/m2/nm); photon counts and other conventions are not accepted here");
+  }
+  std::vector<std::size_t> order(s.size());
+  std::iota(order.begin(), order.end(), 0);
+  std::sort(order.begin(), order.end(), [&](std::size_t a, std::size_t b) { return s.frequency_hz[a] > s.frequency_hz[b]; });
+  WavelengthSpectrum out;
+  for (std::size_t i : order) {
+    const double nu = s.frequency_hz[i];
+    const double factor = c == Convention::kEnergyPerFrequency ? nu * nu / constants::kSpeedOfLight : 1.0;
+    out.source_index.push_back(i);
+    out.wavelength_m.push_back(constants::kSpeedOfLight / nu);
+    out.power.push_back(s.value_si[i] * factor);
+  }
+  return out;
+}
+
+std::optional<double> interpolate_power(const WavelengthSpectrum& s, double wavelength_m) {
+  const auto& w = s.wavelength_m;
+  if (w.empty() || wavelength_m < w.front() || wavelength_m > w.back()) return std::nullopt;
+  const std::size_t j = static_cast<std::size_t>(std::lower_bound(w.begin(), w.end(), wavelength_m) - w.begin());
+  if (j == 0) return s.power[0];
+  const double t = (wavelength_m - w[j - 1]) / (w[j] - w[j - 1]);
+  return s.power[j - 1] + t * (s.power[j] - s.power[j - 1]);
 }
 
 }  // namespace planckton

@@ -8,6 +8,7 @@
 #pragma once
 
 #include <array>
+#include <optional>
 #include <cstddef>
 #include <string>
 #include <vector>
@@ -41,5 +42,19 @@ struct MeasuredSpectrum {
 };
 
 MeasuredSpectrum prepare_spectrum(const SpectrumInput& input);
+
+// The same spectrum as energy per unit wavelength, sorted by wavelength: what colorimetry and
+// radiance temperatures work on. Per-frequency densities are converted (P_lambda = P_nu nu^2 / c,
+// from |d nu / d lambda| = c / lambda^2); photon counts and other conventions throw InputError
+// (field "y_unit").
+struct WavelengthSpectrum {
+  std::vector<double> wavelength_m;        // increasing
+  std::vector<double> power;               // SI, per metre of wavelength
+  std::vector<std::size_t> source_index;   // each point's index in the MeasuredSpectrum
+};
+WavelengthSpectrum energy_per_wavelength(const MeasuredSpectrum& spectrum);
+
+// Linear interpolation inside the spectrum's range; nullopt outside it.
+std::optional<double> interpolate_power(const WavelengthSpectrum& spectrum, double wavelength_m);
 
 }  // namespace planckton

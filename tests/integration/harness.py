@@ -281,6 +281,15 @@ class Server:
 
 # ---- HTTP ------------------------------------------------------------------------------------
 
+def start_checked_server(checks, schema, binary, args=(), name="server"):
+    """Notes when schema checks cannot run, then starts the server; returns it, or None when it did
+    not start (that failure is already a check)."""
+    if not schema.available:
+        checks.note(f"schema checks will not run: {schema.problem}")
+    server = Server(binary, args, name=name)
+    return server if server.start(checks) else None
+
+
 def session():
     s = requests.Session()
     s.trust_env = False  # no proxies from the environment: loopback only

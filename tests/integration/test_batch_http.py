@@ -11,7 +11,7 @@ import sys
 
 sys.dont_write_bytecode = True  # no __pycache__ in the source tree
 import harness  # noqa: E402
-from harness import Checks, OpenAPI, Server, describe, http, is_response, json_of, media_type, problem_issues
+from harness import Checks, OpenAPI, Server, start_checked_server, describe, http, is_response, json_of, media_type, problem_issues
 
 args = harness.parse_args(__doc__)
 checks = Checks(args.require_schema)
@@ -243,10 +243,8 @@ def limits(binary):
 
 
 def main():
-    if not schema.available:
-        checks.note(f"schema checks will not run: {schema.problem}")
-    server = Server(args.server, name="server")
-    if not server.start(checks):
+    server = start_checked_server(checks, schema, args.server)
+    if server is None:
         return
     mixed_batch(server)
     line_endings(server)

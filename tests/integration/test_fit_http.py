@@ -11,7 +11,7 @@ import sys
 
 sys.dont_write_bytecode = True  # no __pycache__ in the source tree
 import harness  # noqa: E402
-from harness import Checks, OpenAPI, Server, check_problem, http, is_response, json_of, media_type, describe
+from harness import Checks, OpenAPI, Server, start_checked_server, check_problem, http, is_response, json_of, media_type, describe
 
 args = harness.parse_args(__doc__)
 checks = Checks(args.require_schema)
@@ -260,10 +260,8 @@ def endpoints(server, fit_doc):
 
 
 def main():
-    if not schema.available:
-        checks.note(f"schema checks will not run: {schema.problem}")
-    server = Server(args.server, name="server")
-    if not server.start(checks):
+    server = start_checked_server(checks, schema, args.server)
+    if server is None:
         return
     fit_doc = fits(server)
     endpoints(server, fit_doc)

@@ -16,7 +16,7 @@ import sys
 
 sys.dont_write_bytecode = True  # no __pycache__ in the source tree
 import harness  # noqa: E402
-from harness import Checks, OpenAPI, Server, check_problem, describe, http, is_response, json_of, media_type
+from harness import Checks, OpenAPI, Server, start_checked_server, check_problem, describe, http, is_response, json_of, media_type
 
 args = harness.parse_args(__doc__)
 checks = Checks(args.require_schema)
@@ -398,10 +398,8 @@ def served_document(server):
 
 
 def main():
-    if not schema.available:
-        checks.note(f"schema checks will not run: {schema.problem}")
-    server = Server(args.server, name="server")
-    if not server.start(checks):
+    server = start_checked_server(checks, schema, args.server)
+    if server is None:
         return
     lab = samples(server)
     bad_input(server, lab)
