@@ -71,19 +71,22 @@ double planck_prefactor(Convention convention, double nu) {
   return 0.0;
 }
 
-double planck_radiance(Convention convention, double frequency_hz, double temperature_k) {
-  const double x = reduced_frequency(frequency_hz, temperature_k);
-  const double prefactor = planck_prefactor(convention, frequency_hz);
+double planck_from_prefactor(double prefactor, double x) {
   if (x < kWienLogSpaceThreshold) return prefactor * bose_einstein_occupation(x);
   // Wien limit: 1 / (e^x - 1) = e^-x / (1 - e^-x) and 1 - e^-x == 1 in double here.
   return std::exp(std::log(prefactor) - x);
 }
 
+double planck_log_temperature_slope(double x) { return x / -std::expm1(-x); }
+
+double planck_radiance(Convention convention, double frequency_hz, double temperature_k) {
+  return planck_from_prefactor(planck_prefactor(convention, frequency_hz), reduced_frequency(frequency_hz, temperature_k));
+}
+
 double planck_radiance_temperature_derivative(Convention convention, double frequency_hz,
                                               double temperature_k) {
   const double x = reduced_frequency(frequency_hz, temperature_k);
-  const double radiance = planck_radiance(convention, frequency_hz, temperature_k);
-  return radiance * (x / temperature_k) / -std::expm1(-x);
+  return planck_radiance(convention, frequency_hz, temperature_k) * planck_log_temperature_slope(x) / temperature_k;
 }
 
 double planck_per_frequency(double frequency_hz, double temperature_k) {

@@ -54,6 +54,13 @@ double bose_einstein_occupation(double x);
 // The prefactor p(nu) with radiance = p(nu) / (exp(x) - 1), in the convention's SI unit.
 double planck_prefactor(Convention convention, double frequency_hz);
 
+// prefactor / (e^x - 1), in log space on the Wien side: the radiance from precomputed per-point
+// constants (fits compute the prefactor once per point).
+double planck_from_prefactor(double prefactor, double x);
+
+// d ln B / d ln T = x / (1 - e^-x), the same in every convention.
+double planck_log_temperature_slope(double x);
+
 // Spectral radiance of a black body in the given convention at the given frequency (the spectral
 // coordinate of every convention is passed as a frequency: lambda = c / nu, sigma = nu / c,
 // E = h nu).

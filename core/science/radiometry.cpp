@@ -40,8 +40,6 @@ constexpr double kRatioMaxTemperatureK = 1e7;
 constexpr double kMinEmissivity = 1e-9;
 // |corr(ln T, epsilon)| above which the two are reported as degenerate.
 constexpr double kDegenerateCorrelation = 0.95;
-// Beyond this x the radiance is evaluated in log space (as planck_fit.cpp does).
-constexpr double kLogSpaceThreshold = 600.0;
 constexpr int kLinearParameters = 3;  // ln T, e0, q = s h (h the band's half-width)
 
 // ln(e^x - 1) for x > 0: expm1 keeps the small-x side exact, and for large x it is
@@ -68,8 +66,7 @@ struct Radiance {
 };
 
 Radiance black_body(double prefactor, double x) {
-  if (x > kLogSpaceThreshold) return {std::exp(std::log(prefactor) - x), x};
-  return {prefactor / std::expm1(x), x / -std::expm1(-x)};
+  return {planck_from_prefactor(prefactor, x), planck_log_temperature_slope(x)};
 }
 
 // Residuals w (y - epsilon B) of the points [begin, end) for ceres::Problem, one parameter block
