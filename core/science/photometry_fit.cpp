@@ -178,20 +178,20 @@ class PhotometryResiduals final : public ceres::CostFunction {
 // enough to find the basin, and the measurements linearised in quoted F_nu.
 GridNode start_estimate(const MeasuredPhotometry& data, const PhotometryModel& model, double log_t_min, double log_t_max) {
   const std::size_t n = data.bands.size();
-  std::vector<double> nu(n), y(n), sigma(n);
+  std::vector<double> nu(n), prefactor(n), y(n), sigma(n), f(n);
   for (std::size_t b = 0; b < n; ++b) {
     const BandMeasurement& m = data.bands[b];
     nu[b] = constants::kSpeedOfLight / m.quadrature.quoted_wavelength_m;
+    prefactor[b] = planck_prefactor(Convention::kEnergyPerFrequency, nu[b]);
     y[b] = m.to_quoted_f_nu(m.value);
     sigma[b] = m.scale == MeasurementScale::kFluxDensity ? model.sigma()[b] * m.to_quoted_f_nu(1.0)
                                                          : y[b] * model.sigma()[b] / kMagnitudesPerLnFlux;
   }
   const auto profile = [&](double log_t) {
-    const double t = std::exp(log_t);
+    const double inverse_t = std::exp(-log_t);
     double yf = 0.0, ff = 0.0, yy = 0.0;
-    std::vector<double> f(n);
     for (std::size_t b = 0; b < n; ++b) {
-      f[b] = planck_per_frequency(nu[b], t);
+      f[b] = planck_from_prefactor(prefactor[b], constants::kPlanckOverBoltzmann * nu[b] * inverse_t);
       if (data.bands[b].upper_limit) continue;
       const double w2 = 1.0 / (sigma[b] * sigma[b]);
       yf += w2 * y[b] * f[b];

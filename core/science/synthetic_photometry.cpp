@@ -5,6 +5,8 @@
 #include <boost/math/quadrature/gauss.hpp>
 #include <cmath>
 
+#include <Eigen/Dense>
+
 #include "science/constants.h"
 #include "science/input_error.h"
 #include "science/planck.h"
@@ -59,22 +61,51 @@ void validate_quoted(const QuotedFlux& quoted) {
   if (!std::isfinite(quoted.power_law_index)) throw InputError("quoted.power_law_index", "must be finite");
 }
 
-// Lagrange basis polynomials of the panel's nodes at t, by the barycentric formula (J.-P. Berrut &
-// L. N. Trefethen, SIAM Review 46, 501 (2004)).
-void lagrange_basis(const std::array<double, kNodesPerPanel>& nodes, const std::array<double, kNodesPerPanel>& barycentric,
-                    double t, std::array<double, kNodesPerPanel>& out) {
-  double sum = 0.0;
-  for (int k = 0; k < kNodesPerPanel; ++k) {
-    const double d = t - nodes[k];
-    if (d == 0.0) {
-      out.fill(0.0);
-      out[k] = 1.0;
-      return;
+// Gaussian quadrature for a discrete positive measure {(u_q, m_q)} on [-1, 1]: the recurrence
+// coefficients of its orthogonal polynomials by the discretised Stieltjes procedure (W. Gautschi,
+// Orthogonal Polynomials: Computation and Approximation, 2004, section 2.2.3.1), then nodes and
+// weights from the eigen-decomposition of the Jacobi matrix (G. H. Golub & J. H. Welsch, Math. Comp.
+// 23, 221 (1969)). The weights are positive and the rule integrates polynomials of degree 2n - 1
+// against the measure exactly.
+void gauss_rule_for_measure(const std::vector<double>& u, const std::vector<double>& m, int n,
+                            std::vector<double>& nodes, std::vector<double>& weights) {
+  const std::size_t size = u.size();
+  std::vector<double> p_previous(size, 0.0), p(size, 1.0), p_next(size);
+  Eigen::VectorXd alpha(n), beta(n);
+  double norm_previous = 1.0;
+  int computed = 0;
+  for (int k = 0; k < n; ++k) {
+    double norm = 0.0, first = 0.0;
+    for (std::size_t q = 0; q < size; ++q) {
+      norm += m[q] * p[q] * p[q];
+      first += m[q] * u[q] * p[q] * p[q];
     }
-    out[k] = barycentric[k] / d;
-    sum += out[k];
+    // A measure with fewer points of positive mass than n supports fewer orthogonal polynomials.
+    if (!(norm > 1e-30 * (k == 0 ? 1.0 : norm_previous)) || (k > 0 && !(norm > 0.0))) break;
+    alpha[k] = first / norm;
+    beta[k] = k == 0 ? norm : norm / norm_previous;
+    ++computed;
+    for (std::size_t q = 0; q < size; ++q) p_next[q] = (u[q] - alpha[k]) * p[q] - (k == 0 ? 0.0 : beta[k] * p_previous[q]);
+    // Rescale to keep the polynomials of order one; the recurrence coefficients are unaffected.
+    const double scale = 1.0 / std::sqrt(norm);
+    for (std::size_t q = 0; q < size; ++q) {
+      p_previous[q] = p[q] * scale;
+      p[q] = p_next[q] * scale;
+    }
+    norm_previous = 1.0;
   }
-  for (double& v : out) v /= sum;
+  if (computed == 0) return;  // no mass in this panel: no nodes
+  Eigen::MatrixXd jacobi = Eigen::MatrixXd::Zero(computed, computed);
+  for (int k = 0; k < computed; ++k) {
+    jacobi(k, k) = alpha[k];
+    if (k + 1 < computed) jacobi(k, k + 1) = jacobi(k + 1, k) = std::sqrt(beta[k + 1]);
+  }
+  const Eigen::SelfAdjointEigenSolver<Eigen::MatrixXd> eigen(jacobi);
+  for (int k = 0; k < computed; ++k) {
+    nodes.push_back(eigen.eigenvalues()[k]);
+    const double v = eigen.eigenvectors()(0, k);
+    weights.push_back(beta[0] * v * v);
+  }
 }
 
 }  // namespace
@@ -87,7 +118,6 @@ double BandQuadrature::apply(const std::function<double(double)>& f_nu) const {
 
 BandQuadrature make_band_quadrature(const Passband& band, const QuotedFlux& quoted) {
   validate_quoted(quoted);
-  static const GaussLegendre<kNodesPerPanel> outer;
   static const GaussLegendre<10> inner;
   const int p = weight_power(band.detector);
   const auto [lo, hi] = response_support(band);
@@ -95,22 +125,10 @@ BandQuadrature make_band_quadrature(const Passband& band, const QuotedFlux& quot
   const int panels = std::max(1, static_cast<int>(std::ceil((t_hi - t_lo) / kPanelWidth)));
   const double width = (t_hi - t_lo) / panels;
 
-  std::vector<double> node_t(static_cast<std::size_t>(panels * kNodesPerPanel));
-  std::vector<double> raw_weight(node_t.size(), 0.0);
-  std::array<double, kNodesPerPanel> barycentric{};
-  std::array<double, kNodesPerPanel> panel_nodes{};
-  std::array<double, kNodesPerPanel> basis{};
-  for (int k = 0; k < kNodesPerPanel; ++k) {
-    panel_nodes[k] = outer.node[k];
-    double product = 1.0;
-    for (int m = 0; m < kNodesPerPanel; ++m) {
-      if (m != k) product *= outer.node[k] - outer.node[m];
-    }
-    barycentric[k] = 1.0 / product;
-  }
-
-  // W = S lambda^-p dlambda = S lambda^(1-p) dt with t = ln lambda; S is linear in lambda between
-  // samples, so each (sample interval x panel) piece gets its own inner rule.
+  // The measure W dlambda = S lambda^(1-p) dt (t = ln lambda) discretised per panel: S is linear in
+  // lambda between samples, so each (sample interval x panel) piece gets its own inner rule, in the
+  // panel's coordinate u in [-1, 1].
+  std::vector<std::vector<double>> panel_u(static_cast<std::size_t>(panels)), panel_mass(static_cast<std::size_t>(panels));
   const auto& w = band.wavelength_m;
   const auto& s = band.response;
   for (std::size_t i = 0; i + 1 < w.size(); ++i) {
@@ -126,10 +144,11 @@ BandQuadrature make_band_quadrature(const Passband& band, const QuotedFlux& quot
         const double t = 0.5 * (start + end) + 0.5 * (end - start) * inner.node[q];
         const double lambda = std::exp(t);
         const double response = s[i] + (s[i + 1] - s[i]) * (lambda - w[i]) / (w[i + 1] - w[i]);
-        const double integrand = 0.5 * (end - start) * inner.weight[q] * response * std::pow(lambda, 1 - p);
-        // Basis in the panel's own coordinate u in [-1, 1].
-        lagrange_basis(panel_nodes, barycentric, (t - panel_mid) / (0.5 * width), basis);
-        for (int k = 0; k < kNodesPerPanel; ++k) raw_weight[panel * kNodesPerPanel + k] += integrand * basis[k];
+        const double mass = 0.5 * (end - start) * inner.weight[q] * response * std::pow(lambda, 1 - p);
+        if (mass > 0.0) {
+          panel_u[static_cast<std::size_t>(panel)].push_back((t - panel_mid) / (0.5 * width));
+          panel_mass[static_cast<std::size_t>(panel)].push_back(mass);
+        }
       }
       start = end;
       if (panel + 1 >= panels) break;
@@ -137,15 +156,19 @@ BandQuadrature make_band_quadrature(const Passband& band, const QuotedFlux& quot
   }
 
   BandQuadrature quadrature;
-  quadrature.frequency_hz.resize(node_t.size());
-  double normalisation = 0.0;
+  std::vector<double> raw_weight;
   for (int panel = 0; panel < panels; ++panel) {
-    for (int k = 0; k < kNodesPerPanel; ++k) {
-      const std::size_t j = static_cast<std::size_t>(panel * kNodesPerPanel + k);
-      const double t = t_lo + (panel + 0.5) * width + 0.5 * width * outer.node[k];
-      quadrature.frequency_hz[j] = constants::kSpeedOfLight / std::exp(t);
-      normalisation += raw_weight[j] * reference_spectrum(quoted, quadrature.frequency_hz[j]);
+    std::vector<double> nodes;
+    gauss_rule_for_measure(panel_u[static_cast<std::size_t>(panel)], panel_mass[static_cast<std::size_t>(panel)],
+                           kNodesPerPanel, nodes, raw_weight);
+    for (std::size_t k = 0; k < nodes.size(); ++k) {
+      const double t = t_lo + (panel + 0.5) * width + 0.5 * width * nodes[k];
+      quadrature.frequency_hz.push_back(constants::kSpeedOfLight / std::exp(t));
     }
+  }
+  double normalisation = 0.0;
+  for (std::size_t j = 0; j < raw_weight.size(); ++j) {
+    normalisation += raw_weight[j] * reference_spectrum(quoted, quadrature.frequency_hz[j]);
   }
   quadrature.weight.resize(raw_weight.size());
   for (std::size_t j = 0; j < raw_weight.size(); ++j) quadrature.weight[j] = raw_weight[j] / normalisation;
