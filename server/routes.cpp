@@ -34,10 +34,23 @@ using api::ProblemError;
 class Routes;
 using RouteHandler = void (Routes::*)(const httplib::Request&, httplib::Response&);
 
+// A route is an exact path, or (prefix non-empty) a templated path: the prefix followed by one
+// non-empty path segment, e.g. "/v1/passbands/{id}" for "/v1/passbands/2mass-j". The access log
+// and the metrics label a request by its route's path, so a templated route counts as one.
 struct Route {
   std::string_view path;
   std::vector<std::string> methods;
   RouteHandler handler;
+  std::string_view prefix = {};
+
+  bool matches(std::string_view request_path) const {
+    if (prefix.empty()) return path == request_path;
+    if (!request_path.starts_with(prefix)) return false;
+    const std::string_view segment = request_path.substr(prefix.size());
+    return !segment.empty() && segment.find('/') == std::string_view::npos;
+  }
+  // The path segment after the prefix (templated routes).
+  std::string_view parameter(std::string_view request_path) const { return request_path.substr(prefix.size()); }
 };
 
 const Route* find_route(const std::string& path);
@@ -57,16 +70,23 @@ std::string media_type(const httplib::Request& request) {
   return type;
 }
 
+// JSON text of a document. A request path may carry any bytes (httplib percent-decodes it, e.g. %FF),
+// and it is quoted in problem details and log lines: invalid UTF-8 becomes U+FFFD instead of an
+// exception (which in the logger would end the process).
+std::string json_text(const nlohmann::ordered_json& document) {
+  return document.dump(-1, ' ', false, nlohmann::ordered_json::error_handler_t::replace);
+}
+
 void send_problem(httplib::Response& response, const Problem& problem) {
   response.status = problem.status;
   if (problem.status == 401) response.set_header("WWW-Authenticate", "Bearer");
   if (problem.status == 405) response.set_header("Allow", joined(problem.accepted, ", "));
-  response.set_content(problem.to_json().dump(), "application/problem+json");
+  response.set_content(json_text(problem.to_json()), "application/problem+json");
 }
 
 void send_json(httplib::Response& response, const nlohmann::ordered_json& document) {
   response.status = 200;
-  response.set_content(document.dump(), "application/json");
+  response.set_content(json_text(document), "application/json");
 }
 
 // Per worker thread: when the request being answered started (set before routing, read by the
@@ -145,6 +165,10 @@ class Routes {
   void models(const httplib::Request&, httplib::Response& response) { send_json(response, api::models_document()); }
   void units(const httplib::Request&, httplib::Response& response) { send_json(response, api::units_document()); }
   void health(const httplib::Request&, httplib::Response& response) { send_json(response, api::health_document()); }
+  void passbands(const httplib::Request&, httplib::Response& response) { send_json(response, api::passbands_document()); }
+  void passband(const httplib::Request& request, httplib::Response& response) {
+    send_json(response, api::passband_document(find_route(request.path)->parameter(request.path)));
+  }
   void metrics_text(const httplib::Request&, httplib::Response& response) {
     response.set_content(metrics_.exposition(), "text/plain; version=0.0.4; charset=utf-8");
   }
@@ -178,7 +202,7 @@ class Routes {
       const nlohmann::ordered_json line =
           api::fit_batch_line(std::string_view(state->body).substr(offset, length), index, limits_);
       count_batch_line(line);
-      const std::string text = line.dump() + "\n";
+      const std::string text = json_text(line) + "\n";
       streamed_bytes += text.size();
       return sink.write(text.data(), text.size());
     });
@@ -261,7 +285,8 @@ class Routes {
     request_counted = false;
     const std::size_t response_bytes = response.body.size() + streamed_bytes;
     streamed_bytes = 0;
-    const std::string route = find_route(request.path) != nullptr ? request.path : "unmatched";
+    const Route* matched = find_route(request.path);
+    const std::string route = matched != nullptr ? std::string(matched->path) : "unmatched";
     metrics_.record_request(route, response.status, seconds);
     // No bodies, no headers (so never a key), only what an operator needs.
     const nlohmann::ordered_json line = {
@@ -269,11 +294,11 @@ class Routes {
         {"path", request.path},     {"status", response.status},       {"duration_ms", seconds * 1e3},
         {"request_bytes", request.body.size()}, {"response_bytes", response_bytes},
         {"remote", request.remote_addr}};
-    write_log_line(line.dump());
+    write_log_line(json_text(line));
   }
 
   void log_event(const char* event, const std::string& detail) {
-    write_log_line(nlohmann::ordered_json{{"event", event}, {"time", utc_timestamp()}, {"detail", detail}}.dump());
+    write_log_line(json_text({{"event", event}, {"time", utc_timestamp()}, {"detail", detail}}));
   }
 
   const api::ServiceLimits& limits() const { return limits_; }
@@ -378,10 +403,11 @@ const Route* find_route(const std::string& path) {
       {"/v1/light", {"POST"}, &Routes::light},      {"/v1/hot-body", {"POST"}, &Routes::hot_body},
       {"/v1/models", {"GET"}, &Routes::models},     {"/v1/units", {"GET"}, &Routes::units},
       {"/v1/health", {"GET"}, &Routes::health},     {"/metrics", {"GET"}, &Routes::metrics_text},
-      {"/openapi.yaml", {"GET"}, &Routes::openapi},
+      {"/openapi.yaml", {"GET"}, &Routes::openapi}, {"/v1/passbands", {"GET"}, &Routes::passbands},
+      {"/v1/passbands/{id}", {"GET"}, &Routes::passband, "/v1/passbands/"},
   };
   for (const Route& route : kRoutes) {
-    if (route.path == path) return &route;
+    if (route.matches(path)) return &route;
   }
   return nullptr;
 }
