@@ -61,7 +61,8 @@ int main(int argc, char** argv) {
   CLI::App app{"planckton: fit black-body (Planck) curves to spectra and report a defensible temperature"};
   app.require_subcommand(1);
   FitArguments args;
-  CLI::App* fit = app.add_subcommand("fit", "Fit a spectrum given as a JSON request or a CSV/TSV/whitespace table");
+  CLI::App* fit = app.add_subcommand("fit", "Fit a spectrum or band photometry given as a JSON request or a CSV/TSV/whitespace table "
+                                  "(a photometry table has the columns band,value,error,unit[,upper_limit])");
   fit->add_option("file", args.file, "JSON request or table file ('-' reads standard input)")->required();
   fit->add_option("--format", args.format, "input format")->check(CLI::IsMember({"auto", "json", "table"}));
   fit->add_flag("--compact", args.compact, "print the response on one line");
@@ -80,6 +81,7 @@ int main(int argc, char** argv) {
       {"temperature_min", "lower temperature bound, K"},
       {"temperature_max", "upper temperature bound, K"},
       {"time_budget_seconds", "time budget of the fit, s"},
+      {"systematic_error", "photometry: systematic error floor, a fraction of the flux"},
   };
   std::vector<std::string> values(kTableFlags.size());
   std::vector<std::pair<std::string, std::string*>> flags;

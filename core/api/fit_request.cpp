@@ -4,6 +4,7 @@
 #include <vector>
 
 #include "api/json_reader.h"
+#include "api/photometry_request.h"
 #include "api/problem.h"
 
 namespace planckton::api {
@@ -40,7 +41,9 @@ DistanceInput parse_distance(const element& value) {
 }
 
 void parse_options(const element& value, FitRequest& request) {
-  const Members o(value, "/options", {"temperature_bounds", "loss", "distance", "max_iterations", "time_budget_seconds"});
+  const Members o(value, "/options",
+                  {"temperature_bounds", "loss", "distance", "max_iterations", "time_budget_seconds", "systematic_error"});
+  if (const auto e = o.find("systematic_error")) request.systematic_error = number_at(*e, o.at("systematic_error"));
   if (const auto e = o.find("temperature_bounds")) {
     const auto [lo, hi] = pair_at(*e, o.at("temperature_bounds"));
     request.fit_options.min_temperature_k = lo;
@@ -85,12 +88,20 @@ FitRequest parse_fit_request(std::string_view text) {
   const element root = parse_text(text);
   const Members top(root, "", {"id", "spectrum", "photometry", "model", "options"});
   FitRequest request;
-  if (top.find("photometry")) {
-    throw ProblemError(unsupported_feature("/photometry", "photometry fits are not available in this version; "
-                                                          "send a spectrum", {"spectrum"}));
+  const auto photometry = top.find("photometry");
+  const auto spectrum = top.find("spectrum");
+  if (photometry && spectrum) fail("/photometry", "a request fits a spectrum or photometry, not both");
+  if (!photometry && !spectrum) fail("/spectrum", "is required (or photometry)");
+  if (photometry) {
+    request.photometry = parse_photometry(*photometry);
+  } else {
+    request.spectrum = parse_spectrum(*spectrum);
   }
-  request.spectrum = parse_spectrum(top.require("spectrum"));
   apply_members(top, request);
+  if (request.systematic_error) {
+    if (!request.photometry) fail("/options/systematic_error", "applies to photometry only");
+    request.photometry->input.systematic_fraction = *request.systematic_error;
+  }
   return request;
 }
 
@@ -111,6 +122,17 @@ void apply_request_members(std::string_view object_text, FitRequest& request) {
 
 std::string pointer_for_field(const std::string& field, const std::optional<std::size_t>& index) {
   std::string pointer;
+  if (field == "photometry" || field.rfind("photometry.", 0) == 0) {
+    // "photometry.<member>[.<member>]" of measurement <index>: /photometry/<index>/<member>/...
+    pointer = "/photometry";
+    if (index) pointer = index_pointer(pointer, *index);
+    if (field.size() > 11) {
+      std::string rest = "/" + field.substr(11);
+      std::replace(rest.begin(), rest.end(), '.', '/');
+      pointer += rest;
+    }
+    return pointer;
+  }
   if (field.rfind("options.", 0) == 0) {
     pointer = "/" + field;
     std::replace(pointer.begin(), pointer.end(), '.', '/');

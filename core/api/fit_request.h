@@ -3,10 +3,13 @@
 //   { "id":       "optional string or integer, echoed in the response",
 //     "spectrum": { "x": [...], "x_unit": "nm", "y": [...], "y_unit": "W/m2/nm",
 //                   "y_error": [...], "exclude": [[lo, hi], ...] },
+//   or "photometry": [ { "band": "2mass-j", "value": 9.68, "error": 0.02, "unit": "Vegamag" }, ... ]
+//                 (photometry_request.h has the whole member),
 //     "model":    { "kind": "planck" },
 //     "options":  { "temperature_bounds": [lo, hi],                      K
 //                   "loss": { "kind": "none" | "huber" | "cauchy", "scale": 1.0 },
 //                   "distance": { "value": 120, "unit": "pc", "error": 5 },
+//                   "systematic_error": 0.02,                          photometry: fraction of flux
 //                   "max_iterations": 200, "time_budget_seconds": 10 } }
 //
 // The text is parsed with simdjson (its DOM API: the arrays of a 1,000-point spectrum are read in
@@ -17,6 +20,7 @@
 #pragma once
 
 #include <cstddef>
+#include <memory>
 #include <optional>
 #include <string>
 #include <string_view>
@@ -24,6 +28,7 @@
 #include <nlohmann/json.hpp>
 
 #include "science/derived_quantities.h"
+#include "science/photometry.h"
 #include "science/planck_fit.h"
 #include "science/spectrum.h"
 
@@ -35,14 +40,21 @@ struct DistanceInput {
   double error = 0.0;
 };
 
+struct PhotometryRequest {
+  PhotometryInput input;  // band pointers into builtin_passbands() or inline_bands
+  std::vector<std::shared_ptr<const Passband>> inline_bands;
+};
+
 struct FitRequest {
   std::optional<nlohmann::ordered_json> id;  // string or integer, echoed
-  SpectrumInput spectrum;
+  SpectrumInput spectrum;                    // unless photometry is given
+  std::optional<PhotometryRequest> photometry;
   std::string model_kind = "planck";
   PlanckFitOptions fit_options;
   bool time_budget_given = false;
   std::string loss_name = "none";
   std::optional<DistanceInput> distance;
+  std::optional<double> systematic_error;  // options.systematic_error (photometry only)
 };
 
 // The whole request document.

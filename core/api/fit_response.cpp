@@ -4,6 +4,7 @@
 #include <nlohmann/json.hpp>
 #include <numbers>
 
+#include "api/catalogue.h"
 #include "science/constants.h"
 
 namespace planckton::api {
@@ -132,51 +133,113 @@ nlohmann::ordered_json provenance_json() {
   return {{"version", PLANCKTON_VERSION}, {"constants", constants::kSource}, {"solver", "Ceres Solver"}};
 }
 
-nlohmann::ordered_json make_fit_response(const FitRequest& request, const MeasuredSpectrum& spectrum, const PlanckFitResult& fit,
-                       const DerivedQuantities& derived) {
+namespace {
+
+// The document both fits share; `statistics` and `input` describe the data.
+json response_document(const FitRequest& request, const FluxDensityUnit& unit, const PlanckFitResult& fit,
+                       const DerivedQuantities& derived, json statistics, json input, std::optional<json> bands) {
   json peaks = json::object();
   for (const PeakEstimate& peak : derived.peaks) peaks[peak.id] = peak_json(peak);
-  peaks["of_data"] = data_peak_id(spectrum.y_unit.convention);
-
-  const json warnings = warnings_json(fit.warnings);
+  peaks["of_data"] = data_peak_id(unit.convention);
 
   const double correlation = fit.covariance_available ? fit.log_correlation() : 0.0;
-  json response = {
-      {"model", request.model_kind},
-      {"status", fit.converged ? "converged" : "not_converged"},
-      {"parameters",
-       {{"temperature", estimate_json(derived.temperature_k, "K")}, {"scale", scale_json(derived.scale, spectrum.y_unit)}}},
-      {"correlation",
-       fit.covariance_available
-           ? json{{"parameters", {"temperature", "scale"}},
-                  {"matrix", {{1.0, correlation}, {correlation, 1.0}}},
-                  {"space", "ln temperature, ln scale (the fitted parameters)"}}
-           : json(nullptr)},
-      {"peaks", peaks},
-      {"derived", derived_json(derived)},
-      {"statistics", statistics_json(request, spectrum, fit)},
-      {"intervals",
-       {{"method", "covariance"},
-        {"description", "linearised (Gaussian) errors from the covariance matrix; intervals are Gaussian in "
-                        "the logarithm of each positive quantity, at 1 and 2 sigma"},
-        {"levels", {{"interval_68", 0.682689492137086}, {"interval_95", 0.954499736103642}}}}},
-      {"input",
-       {{"x_unit", spectrum.x_unit.text},
-        {"y_unit", spectrum.y_unit.text},
-        {"convention", std::string(convention_name(spectrum.y_unit.convention)) +
-                           (spectrum.y_unit.per_steradian ? ", per steradian" : "")}}},
-      {"solver",
-       {{"termination", fit.termination},
-        {"iterations", fit.iterations},
-        {"message", fit.solver_message},
-        {"start_temperature", fit.start_temperature_k}}},
-      {"warnings", warnings},
-      {"provenance", provenance_json()},
-  };
-  if (!request.id) return response;
-  json with_id = {{"id", *request.id}};
-  for (auto& [key, value] : response.items()) with_id[key] = std::move(value);
-  return with_id;
+  json response;
+  if (request.id) response["id"] = *request.id;
+  response["model"] = request.model_kind;
+  response["status"] = fit.converged ? "converged" : "not_converged";
+  response["parameters"] = {{"temperature", estimate_json(derived.temperature_k, "K")},
+                            {"scale", scale_json(derived.scale, unit)}};
+  response["correlation"] = fit.covariance_available
+                                ? json{{"parameters", {"temperature", "scale"}},
+                                       {"matrix", {{1.0, correlation}, {correlation, 1.0}}},
+                                       {"space", "ln temperature, ln scale (the fitted parameters)"}}
+                                : json(nullptr);
+  response["peaks"] = peaks;
+  response["derived"] = derived_json(derived);
+  if (bands) response["bands"] = std::move(*bands);
+  response["statistics"] = std::move(statistics);
+  response["intervals"] = {
+      {"method", "covariance"},
+      {"description", "linearised (Gaussian) errors from the covariance matrix; intervals are Gaussian in "
+                      "the logarithm of each positive quantity, at 1 and 2 sigma"},
+      {"levels", {{"interval_68", 0.682689492137086}, {"interval_95", 0.954499736103642}}}};
+  response["input"] = std::move(input);
+  response["solver"] = {{"termination", fit.termination},
+                        {"iterations", fit.iterations},
+                        {"message", fit.solver_message},
+                        {"start_temperature", fit.start_temperature_k}};
+  response["warnings"] = warnings_json(fit.warnings);
+  response["provenance"] = provenance_json();
+  return response;
+}
+
+// A measurement-space value in the caller's unit.
+double in_given_unit(const BandMeasurement& m, double value) {
+  return m.scale == MeasurementScale::kFluxDensity ? value / m.unit_to_si : value;
+}
+
+json band_json(const BandMeasurement& m, const BandMeasurementInput& given, const BandFit& fit) {
+  json doc = {{"band", m.band->id},
+              {"pivot_wavelength_nm", m.quadrature.pivot_wavelength_m * kNanometresPerMetre},
+              {"quoted", quoted_flux_json(m.quoted)},
+              {"unit", m.unit},
+              {"value", given.value},
+              {"error", given.error ? json(*given.error) : json(nullptr)},
+              {"sigma_used", m.error > 0.0 ? json(in_given_unit(m, m.error)) : json(nullptr)},
+              {"upper_limit", m.upper_limit},
+              {"model", in_given_unit(m, fit.model)},
+              {"residual", fit.residual},
+              {"model_at_quoted_wavelength", in_given_unit(m, fit.model_monochromatic)}};
+  if (m.scale != MeasurementScale::kFluxDensity) {
+    doc["zero_point"] = {{"value", m.zero_point_si / 1e-26}, {"unit", "Jy"}, {"source", m.zero_point_source}};
+  }
+  return doc;
+}
+
+}  // namespace
+
+nlohmann::ordered_json make_fit_response(const FitRequest& request, const MeasuredSpectrum& spectrum, const PlanckFitResult& fit,
+                       const DerivedQuantities& derived) {
+  json input = {{"x_unit", spectrum.x_unit.text},
+                {"y_unit", spectrum.y_unit.text},
+                {"convention", std::string(convention_name(spectrum.y_unit.convention)) +
+                                   (spectrum.y_unit.per_steradian ? ", per steradian" : "")}};
+  return response_document(request, spectrum.y_unit, fit, derived, statistics_json(request, spectrum, fit),
+                           std::move(input), std::nullopt);
+}
+
+nlohmann::ordered_json make_photometry_response(const FitRequest& request, const MeasuredPhotometry& data,
+                                                const PhotometryFitResult& result, const FluxDensityUnit& unit,
+                                                const DerivedQuantities& derived) {
+  const PlanckFitResult& fit = result.fit;
+  json bands = json::array();
+  std::size_t nodes = 0;
+  for (std::size_t b = 0; b < data.bands.size(); ++b) {
+    bands.push_back(band_json(data.bands[b], request.photometry->input.measurements[b], result.bands[b]));
+    nodes += data.bands[b].quadrature.frequency_hz.size();
+  }
+  json statistics = {{"chi_square", optional_number(fit.chi_square)},
+                     {"degrees_of_freedom", fit.degrees_of_freedom},
+                     {"reduced_chi_square", nullptr},
+                     {"p_value", optional_number(fit.p_value)},
+                     {"bands_given", data.bands.size()},
+                     {"detections", data.detections},
+                     {"upper_limits", data.upper_limits},
+                     {"points_used", fit.points_used},
+                     {"errors", fit.errors_estimated ? "estimated from the residuals" : "given"}};
+  if (fit.chi_square && fit.degrees_of_freedom > 0) statistics["reduced_chi_square"] = *fit.chi_square / fit.degrees_of_freedom;
+  if (fit.errors_estimated) statistics["residual_scatter"] = {{"value", fit.residual_scatter_si}, {"unit", "fraction of flux"}};
+  if (data.upper_limits > 0) {
+    statistics["upper_limit_terms"] = "chi_square includes -2 ln Phi((limit - model) / sigma) for each upper limit "
+                                      "(censored data, Sawicki 2012, PASP 124, 1208)";
+  }
+  json input = {{"photometry", data.bands.size()},
+                {"convention", std::string(convention_name(unit.convention)) + (unit.per_steradian ? ", per steradian" : "") +
+                                   " (each band's quoted flux density)"},
+                {"band_integration", "product integration through each band's response: " + std::to_string(nodes) +
+                                         " nodes in all (Gauss-Legendre in ln wavelength)"},
+                {"systematic_error", request.photometry->input.systematic_fraction}};
+  return response_document(request, unit, fit, derived, std::move(statistics), std::move(input), std::move(bands));
 }
 
 }  // namespace planckton::api

@@ -11,6 +11,7 @@
 #include <nlohmann/json.hpp>
 
 #include "api/fit_request.h"
+#include "science/photometry_fit.h"
 
 namespace planckton::api {
 
@@ -23,5 +24,12 @@ nlohmann::ordered_json provenance_json();
 
 nlohmann::ordered_json make_fit_response(const FitRequest& request, const MeasuredSpectrum& spectrum,
                                  const PlanckFitResult& fit, const DerivedQuantities& derived);
+
+// The same document for band measurements, with a "bands" member (measured, model, residual, pivot
+// wavelength and quoted convention per band) after "derived". `unit` is the unit of the scale's
+// meaning: Jy (solid angle) or MJy/sr (emissivity).
+nlohmann::ordered_json make_photometry_response(const FitRequest& request, const MeasuredPhotometry& data,
+                                                const PhotometryFitResult& result, const FluxDensityUnit& unit,
+                                                const DerivedQuantities& derived);
 
 }  // namespace planckton::api

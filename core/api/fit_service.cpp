@@ -26,6 +26,10 @@ ProblemError problem_for(const InputError& e) {
 }
 
 void apply_limits(const ServiceLimits& limits, FitRequest& request) {
+  if (limits.max_points > 0 && request.photometry && request.photometry->input.measurements.size() > limits.max_points) {
+    throw ProblemError(payload_too_large("the photometry has " + std::to_string(request.photometry->input.measurements.size()) +
+                                         " bands; this service fits at most " + std::to_string(limits.max_points)));
+  }
   if (limits.max_points > 0 && request.spectrum.x.size() > limits.max_points) {
     throw ProblemError(payload_too_large("the spectrum has " + std::to_string(request.spectrum.x.size()) +
                                          " points; this service fits at most " + std::to_string(limits.max_points)));
@@ -84,12 +88,22 @@ struct TableSettings {
   nlohmann::json extra = nlohmann::json::object();
 };
 
-TableSettings table_settings(const TableParameters& parameters) {
+bool spectrum_only_parameter(const std::string& name) {
+  for (const char* spectral : {"x_unit", "y_unit", "x_column", "y_column", "error_column", "loss", "loss_scale", "exclude"}) {
+    if (name == spectral) return true;
+  }
+  return false;
+}
+
+TableSettings table_settings(const TableParameters& parameters, bool photometry) {
   TableSettings settings;
   nlohmann::json& options = settings.extra["options"];
   options = nlohmann::json::object();
   std::optional<double> t_min, t_max;
   for (const auto& [name, value] : parameters) {
+    if (photometry && spectrum_only_parameter(name)) {
+      throw ProblemError(invalid_parameter(name, "applies to spectra; this table is photometry (its first column is band)"));
+    }
     if (name == "x_unit") settings.table.x_unit = value;
     else if (name == "y_unit") settings.table.y_unit = value;
     else if (name == "x_column") settings.table.x_column = value;
@@ -103,10 +117,11 @@ TableSettings table_settings(const TableParameters& parameters) {
     else if (name == "temperature_min") t_min = parameter_number(name, value);
     else if (name == "temperature_max") t_max = parameter_number(name, value);
     else if (name == "time_budget_seconds") options["time_budget_seconds"] = parameter_number(name, value);
+    else if (name == "systematic_error") options["systematic_error"] = parameter_number(name, value);
     else throw ProblemError(invalid_parameter(name, "is not a known parameter", table_parameter_names()));
   }
-  if (settings.table.x_unit.empty()) throw ProblemError(invalid_parameter("x_unit", "is required for a table", documented_spectral_axis_units()));
-  if (settings.table.y_unit.empty()) throw ProblemError(invalid_parameter("y_unit", "is required for a table", documented_flux_density_units()));
+  if (!photometry && settings.table.x_unit.empty()) throw ProblemError(invalid_parameter("x_unit", "is required for a table", documented_spectral_axis_units()));
+  if (!photometry && settings.table.y_unit.empty()) throw ProblemError(invalid_parameter("y_unit", "is required for a table", documented_flux_density_units()));
   if (options.contains("loss") && !options["loss"].contains("kind")) {
     throw ProblemError(invalid_parameter("loss_scale", "needs loss (huber or cauchy)"));
   }
@@ -124,7 +139,7 @@ std::optional<std::string> parameter_of(const std::string& pointer) {
       {"/model", "model"}, {"/options/loss/scale", "loss_scale"}, {"/options/loss", "loss"},
       {"/options/distance", "distance"}, {"/options/temperature_bounds/0", "temperature_min"},
       {"/options/temperature_bounds/1", "temperature_max"}, {"/options/temperature_bounds", "temperature_min"},
-      {"/options/time_budget_seconds", "time_budget_seconds"}};
+      {"/options/time_budget_seconds", "time_budget_seconds"}, {"/options/systematic_error", "systematic_error"}};
   for (const auto& [prefix, name] : kPrefixes) {
     if (pointer.rfind(prefix, 0) == 0) return name;
   }
@@ -136,13 +151,19 @@ std::optional<std::string> parameter_of(const std::string& pointer) {
 nlohmann::ordered_json fit(FitRequest request, const ServiceLimits& limits) {
   apply_limits(limits, request);
   try {
-    const MeasuredSpectrum spectrum = prepare_spectrum(request.spectrum);
-    const PlanckFitResult result = fit_planck(spectrum, request.fit_options);
     std::optional<Distance> distance;
     if (request.distance) {
       distance = Distance{request.distance->value * parse_length_unit(request.distance->unit),
                           request.distance->error / request.distance->value};
     }
+    if (request.photometry) {
+      const MeasuredPhotometry data = prepare_photometry(request.photometry->input);
+      const PhotometryFitResult result = fit_planck_photometry(data, request.fit_options);
+      const FluxDensityUnit unit = parse_flux_density_unit(data.per_steradian ? "MJy/sr" : "Jy");
+      return make_photometry_response(request, data, result, unit, derive_quantities(result.fit, unit, distance));
+    }
+    const MeasuredSpectrum spectrum = prepare_spectrum(request.spectrum);
+    const PlanckFitResult result = fit_planck(spectrum, request.fit_options);
     const DerivedQuantities derived = derive_quantities(result, spectrum.y_unit, distance);
     return make_fit_response(request, spectrum, result, derived);
   } catch (const InputError& e) {
@@ -173,11 +194,41 @@ nlohmann::ordered_json fit_table_text(std::string_view text, const TableRequestO
   }
 }
 
+namespace {
+
+// A photometry table becomes the request document {"photometry": [...], "model", "options"}, so it is
+// checked exactly as JSON is; problems with a measurement carry its line.
+nlohmann::ordered_json fit_photometry_table(std::string_view text, const nlohmann::json& extra_request_members,
+                                            const ServiceLimits& limits) {
+  const PhotometryTable table = read_photometry_table(text);
+  nlohmann::json document = extra_request_members;
+  document["photometry"] = table.measurements;
+  try {
+    return fit(parse_fit_request(document), limits);
+  } catch (ProblemError& e) {
+    Problem& problem = e.problem();
+    const std::string prefix = "/photometry/";
+    if (problem.pointer && problem.pointer->rfind(prefix, 0) == 0) {
+      const std::string rest = problem.pointer->substr(prefix.size());
+      const std::string row = rest.substr(0, rest.find('/'));
+      if (!row.empty() && row.size() < 10 && row.find_first_not_of("0123456789") == std::string::npos &&
+          std::stoul(row) < table.line_of_row.size()) {
+        problem.line = table.line_of_row[std::stoul(row)];
+      }
+    }
+    throw;
+  }
+}
+
+}  // namespace
+
 nlohmann::ordered_json fit_table_text(std::string_view text, const TableParameters& parameters,
                                       const ServiceLimits& limits) {
-  const TableSettings settings = table_settings(parameters);
+  const bool photometry = is_photometry_table(text);
+  const TableSettings settings = table_settings(parameters, photometry);
   try {
-    return fit_table_text(text, settings.table, settings.extra, limits);
+    return photometry ? fit_photometry_table(text, settings.extra, limits)
+                      : fit_table_text(text, settings.table, settings.extra, limits);
   } catch (ProblemError& e) {
     Problem& problem = e.problem();
     if (problem.pointer && !problem.line) {
@@ -193,7 +244,7 @@ nlohmann::ordered_json fit_table_text(std::string_view text, const TableParamete
 const std::vector<std::string>& table_parameter_names() {
   static const std::vector<std::string> kNames = {
       "x_unit", "y_unit", "x_column", "y_column", "error_column", "model", "loss", "loss_scale",
-      "exclude", "distance", "temperature_min", "temperature_max", "time_budget_seconds"};
+      "exclude", "distance", "temperature_min", "temperature_max", "time_budget_seconds", "systematic_error"};
   return kNames;
 }
 

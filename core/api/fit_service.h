@@ -50,7 +50,9 @@ nlohmann::ordered_json fit_table_text(std::string_view text, const TableRequestO
 // A table with its settings as named text parameters, as query parameters (HTTP) or flags (CLI)
 // give them: x_unit, y_unit, x_column, y_column, error_column, model, loss, loss_scale, exclude
 // (LO:HI, repeatable), distance ("VALUE UNIT"), temperature_min, temperature_max,
-// time_budget_seconds. Problems with a parameter name it.
+// time_budget_seconds, systematic_error. Problems with a parameter name it. A table whose first
+// column is `band` is photometry (table_reader.h), fitted through the bands; the spectrum's
+// parameters do not apply to it.
 using TableParameters = std::vector<std::pair<std::string, std::string>>;
 nlohmann::ordered_json fit_table_text(std::string_view text, const TableParameters& parameters,
                                       const ServiceLimits& limits = {});

@@ -87,11 +87,13 @@ std::optional<std::size_t> find_named(const Table& table, std::initializer_list<
 
 }  // namespace
 
-Table read_table(std::string_view text) {
-  Table table;
+namespace {
+
+// Calls row(line_number, fields) for each non-empty row, comments ('#' to the end of the line) removed.
+template <class Row>
+void for_each_row(std::string_view text, Row&& row) {
   std::size_t line_number = 0;
   std::size_t position = 0;
-  std::size_t width = 0;
   while (position <= text.size()) {
     const std::size_t end = std::min(text.find('\n', position), text.size());
     std::string_view line = text.substr(position, end - position);
@@ -99,8 +101,22 @@ Table read_table(std::string_view text) {
     ++line_number;
     if (const std::size_t hash = line.find('#'); hash != std::string_view::npos) line = line.substr(0, hash);
     line = trim(line);
-    if (line.empty()) continue;
-    const std::vector<std::string_view> fields = split_fields(line);
+    if (!line.empty()) row(line_number, split_fields(line));
+  }
+}
+
+std::string lower(std::string_view text) {
+  std::string out(text);
+  for (char& c : out) c = static_cast<char>(std::tolower(static_cast<unsigned char>(c)));
+  return out;
+}
+
+}  // namespace
+
+Table read_table(std::string_view text) {
+  Table table;
+  std::size_t width = 0;
+  for_each_row(text, [&](std::size_t line_number, const std::vector<std::string_view>& fields) {
     if (width == 0) {
       width = fields.size();
       table.columns.resize(width);
@@ -108,7 +124,7 @@ Table read_table(std::string_view text) {
                                          [](std::string_view f) { return !parse_number(f).has_value(); });
       if (is_header) {
         for (std::string_view f : fields) table.header.emplace_back(f);
-        continue;
+        return;
       }
     }
     if (fields.size() != width) {
@@ -124,9 +140,70 @@ Table read_table(std::string_view text) {
       table.columns[c].push_back(*value);
     }
     table.line_of_row.push_back(line_number);
-  }
+  });
   if (table.line_of_row.empty()) throw ProblemError(malformed_document("the table has no data rows"));
   if (width < 2) throw ProblemError(malformed_document("the table needs at least two columns (x and y)"));
+  return table;
+}
+
+bool is_photometry_table(std::string_view text) {
+  bool answer = false, seen = false;
+  for_each_row(text, [&](std::size_t, const std::vector<std::string_view>& fields) {
+    if (!seen) answer = lower(fields.front()) == "band";
+    seen = true;
+  });
+  return answer;
+}
+
+PhotometryTable read_photometry_table(std::string_view text) {
+  static const std::vector<std::string> kColumns = {"band", "value", "error", "unit", "upper_limit", "zero_point",
+                                                    "systematic_error"};
+  PhotometryTable table;
+  table.measurements = nlohmann::json::array();
+  std::vector<std::string> header;
+  for_each_row(text, [&](std::size_t line_number, const std::vector<std::string_view>& fields) {
+    if (header.empty()) {
+      for (std::string_view f : fields) {
+        header.push_back(lower(f));
+        if (std::find(kColumns.begin(), kColumns.end(), header.back()) == kColumns.end()) {
+          throw ProblemError(malformed_document("column " + quoted(f) + " is not a photometry column (band, value, error, "
+                                                "unit, upper_limit, zero_point, systematic_error)", line_number));
+        }
+      }
+      for (const char* required : {"value", "unit"}) {
+        if (std::find(header.begin(), header.end(), required) == header.end()) {
+          throw ProblemError(malformed_document(std::string("a photometry table needs a '") + required + "' column", line_number));
+        }
+      }
+      return;
+    }
+    if (fields.size() != header.size()) {
+      throw ProblemError(malformed_document("the row has " + std::to_string(fields.size()) + " fields, expected " +
+                                                std::to_string(header.size()), line_number));
+    }
+    nlohmann::json measurement = nlohmann::json::object();
+    for (std::size_t c = 0; c < header.size(); ++c) {
+      const std::string& column = header[c];
+      const std::string_view field = fields[c];
+      if (column == "band" || column == "unit") {
+        measurement[column] = std::string(field);
+      } else if (column == "upper_limit") {
+        const std::string flag = lower(field);
+        if (flag == "true" || flag == "yes" || flag == "1") {
+          measurement[column] = true;
+        } else if (!(flag.empty() || flag == "false" || flag == "no" || flag == "0")) {
+          throw ProblemError(malformed_document("upper_limit " + quoted(field) + " is not true/false, yes/no or 1/0", line_number));
+        }
+      } else if (!field.empty() && field != "-") {
+        const auto value = parse_number(field);
+        if (!value) throw ProblemError(malformed_document(column + " " + quoted(field) + " is not a number", line_number));
+        measurement[column] = *value;
+      }
+    }
+    table.measurements.push_back(std::move(measurement));
+    table.line_of_row.push_back(line_number);
+  });
+  if (table.line_of_row.empty()) throw ProblemError(malformed_document("the photometry table has no rows"));
   return table;
 }
 

@@ -12,7 +12,7 @@
 #include <string_view>
 #include <vector>
 
-#include <nlohmann/json_fwd.hpp>
+#include <nlohmann/json.hpp>
 
 #include "science/spectrum.h"
 
@@ -40,5 +40,16 @@ SpectrumInput table_to_spectrum(const Table& table, const TableRequestOptions& o
 
 // The same as a JSON request document: {"spectrum": {x, x_unit, y, y_unit[, y_error]}}.
 nlohmann::json table_to_request(const Table& table, const TableRequestOptions& options);
+
+// Tables of band measurements: a header row whose first column is `band`, then any of the columns
+// band, value, error, unit, upper_limit (true/false, yes/no, 1/0; empty = false), zero_point (Jy),
+// systematic_error; an empty or '-' number is absent. Same splitting and comments as above.
+bool is_photometry_table(std::string_view text);
+
+struct PhotometryTable {
+  nlohmann::json measurements;           // the request's "photometry" array
+  std::vector<std::size_t> line_of_row;  // 1-based source line of each measurement
+};
+PhotometryTable read_photometry_table(std::string_view text);
 
 }  // namespace planckton::api

@@ -1,6 +1,10 @@
 // The request and response documents, problem documents and tables (core/api).
 #include <gtest/gtest.h>
 
+#include "science/passband.h"
+#include "science/planck.h"
+#include "science/synthetic_photometry.h"
+
 #include <algorithm>
 #include <cmath>
 #include <cstdio>
@@ -491,15 +495,100 @@ TEST(ApiProblems, HugeNumber) {
   EXPECT_NE(p.detail.find("1e999"), std::string::npos) << p.detail;
 }
 
-TEST(ApiProblems, PhotometryIsUnsupported) {
-  // Source: fit_request.cpp (photometry is not in this version) and problem.h (unsupported).
+TEST(ApiProblems, SpectrumAndPhotometryTogetherAreAmbiguous) {
+  // Source: fit_request.cpp (a request fits one kind of data).
   json request = valid_request(10);
-  request["photometry"] = json::object();
+  request["photometry"] = json::array();
   const Problem p = problem_of_document(request);
   expect_well_formed(p);
-  EXPECT_EQ(p.type, "/problems/unsupported");
   EXPECT_EQ(p.status, 422);
   EXPECT_EQ(p.pointer, "/photometry");
+}
+
+// Photometry of a 6,000 K black body (AB magnitudes through the shipped curves, computed by
+// planckton's own synthetic photometry, which tests/reference checks against synphot).
+json photometry_request() {
+  json bands = json::array();
+  for (const char* id : {"johnson-b", "johnson-v", "cousins-r", "2mass-j", "2mass-ks"}) {
+    const planckton::Passband& band = *planckton::find_builtin_passband(id);
+    const double f_nu = 1e-18 * planckton::make_band_quadrature(band, band.quoted).apply([](double nu) {
+      return planckton::planck_per_frequency(nu, 6000.0);
+    });
+    bands.push_back({{"band", id}, {"value", -2.5 * std::log10(f_nu / 3631e-26)}, {"error", 0.02}, {"unit", "ABmag"}});
+  }
+  return {{"id", "sed-1"}, {"photometry", bands}};
+}
+
+TEST(ApiPhotometry, FitsCatalogueMagnitudesAndReportsEachBand) {
+  const auto r = planckton::api::fit_document(photometry_request());
+  EXPECT_EQ(r["id"], "sed-1");
+  EXPECT_NEAR(r["parameters"]["temperature"]["value"].get<double>(), 6000.0, 1e-3);
+  ASSERT_EQ(r["bands"].size(), 5u);
+  const auto& v = r["bands"][1];
+  EXPECT_EQ(v["band"], "johnson-v");
+  EXPECT_NEAR(v["model"].get<double>(), v["value"].get<double>(), 1e-6);
+  EXPECT_NEAR(v["pivot_wavelength_nm"].get<double>(), 547.9, 1.0);
+  EXPECT_EQ(v["quoted"]["kind"], "band_average");
+  EXPECT_EQ(r["statistics"]["bands_given"], 5);
+  EXPECT_EQ(r["parameters"]["scale"]["unit"], "sr");
+}
+
+TEST(ApiPhotometry, InlineCurveFitsLikeAShippedOne) {
+  json request = photometry_request();
+  // johnson-v given inline, as a laboratory filter would be, in nm and decreasing order.
+  const planckton::Passband& v = *planckton::find_builtin_passband("johnson-v");
+  json wavelength = json::array(), response = json::array();
+  for (std::size_t i = v.wavelength_m.size(); i-- > 0;) {
+    wavelength.push_back(v.wavelength_m[i] * 1e9);
+    response.push_back(v.response[i]);
+  }
+  request["photometry"][1]["band"] = {{"id", "lab-v"}, {"wavelength", wavelength}, {"wavelength_unit", "nm"},
+                                      {"response", response}, {"detector", "photon_counting"}};
+  const auto r = planckton::api::fit_document(request);
+  EXPECT_NEAR(r["parameters"]["temperature"]["value"].get<double>(), 6000.0, 1e-3);
+  EXPECT_EQ(r["bands"][1]["band"], "lab-v");
+}
+
+TEST(ApiPhotometry, ProblemsPointAtTheMeasurement) {
+  // Source: photometry_request.cpp and photometry.cpp (field names), RFC 6901 pointers.
+  json unknown = photometry_request();
+  unknown["photometry"][2]["band"] = "johnson-q";
+  EXPECT_EQ(problem_of_document(unknown).pointer, "/photometry/2/band");
+  json bad_curve = photometry_request();
+  bad_curve["photometry"][0]["band"] = {{"id", "f"}, {"wavelength", {400, 500, 600}}, {"wavelength_unit", "nm"},
+                                        {"response", {0.1, -1, 0.2}}, {"detector", "photon_counting"}};
+  EXPECT_EQ(problem_of_document(bad_curve).pointer, "/photometry/0/band/response/1");
+  json no_zero_point = photometry_request();
+  no_zero_point["photometry"][3]["band"] = "sdss-g";
+  no_zero_point["photometry"][3]["unit"] = "Vegamag";
+  EXPECT_EQ(problem_of_document(no_zero_point).pointer, "/photometry/3/zero_point");
+  json one = photometry_request();
+  one["photometry"] = json::array({one["photometry"][0]});
+  EXPECT_EQ(problem_of_document(one).pointer, "/photometry");
+  json floor_for_spectrum = valid_request(10);
+  floor_for_spectrum["options"]["systematic_error"] = 0.02;
+  EXPECT_EQ(problem_of_document(floor_for_spectrum).pointer, "/options/systematic_error");
+  json robust = photometry_request();
+  robust["options"]["loss"] = {{"kind", "huber"}};
+  EXPECT_EQ(problem_of_document(robust).pointer, "/options/loss");
+}
+
+TEST(ApiPhotometry, TableOfBandsFitsAndProblemsCarryTheLine) {
+  const std::string table =
+      "# invented catalogue\nband,value,error,unit\njohnson-b,11.3,0.02,Vegamag\njohnson-v,10.6,0.02,Vegamag\n"
+      "2mass-j,9.2,0.03,Vegamag\n";
+  const auto r = planckton::api::fit_table_text(table, planckton::api::TableParameters{{"systematic_error", "0.02"}});
+  EXPECT_EQ(r["bands"].size(), 3u);
+  EXPECT_EQ(r["input"]["systematic_error"], 0.02);
+  const Problem bad = problem_of([&] {
+    planckton::api::fit_table_text("band,value,error,unit\njohnson-b,11.3,0.02,Vegamag\nwrong,10.6,0.02,Vegamag\n",
+                                   planckton::api::TableParameters{});
+  });
+  EXPECT_EQ(bad.line, 3u);
+  const Problem spectral = problem_of([&] {
+    planckton::api::fit_table_text(table, planckton::api::TableParameters{{"x_unit", "nm"}});
+  });
+  EXPECT_EQ(spectral.parameter, "x_unit");
 }
 
 TEST(ApiProblems, DeepNesting) {
