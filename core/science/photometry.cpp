@@ -4,6 +4,7 @@
 #include <cmath>
 #include <map>
 #include <mutex>
+#include <optional>
 
 #include "science/constants.h"
 #include "science/input_error.h"
@@ -31,10 +32,7 @@ const BandQuadrature& builtin_quadrature(const Passband& band) {
   return found->second;
 }
 
-bool is_builtin(const Passband* band) {
-  const auto& all = builtin_passbands();
-  return !all.empty() && band >= &all.front() && band <= &all.back();
-}
+bool is_builtin(const Passband* band) { return find_builtin_passband(band->id) == band; }
 
 BandQuadrature quadrature_for(const BandMeasurementInput& m, const QuotedFlux& quoted, std::size_t index) {
   try {
@@ -71,7 +69,8 @@ void prepare_magnitude(const BandMeasurementInput& m, std::size_t index, BandMea
   }
 }
 
-void prepare_flux_density(const BandMeasurementInput& m, std::size_t index, BandMeasurement& out) {
+// Returns whether the unit is an intensity (per steradian).
+bool prepare_flux_density(const BandMeasurementInput& m, std::size_t index, BandMeasurement& out) {
   FluxDensityUnit unit;
   try {
     unit = parse_flux_density_unit(m.unit);
@@ -88,6 +87,7 @@ void prepare_flux_density(const BandMeasurementInput& m, std::size_t index, Band
   out.scale = MeasurementScale::kFluxDensity;
   out.unit_to_si = unit.to_si;
   out.per_wavelength = unit.convention == Convention::kEnergyPerWavelength;
+  return unit.per_steradian;
 }
 
 }  // namespace
@@ -130,8 +130,7 @@ MeasuredPhotometry prepare_photometry(const PhotometryInput& input) {
     if (magnitude) {
       prepare_magnitude(m, i, band);
     } else {
-      prepare_flux_density(m, i, band);
-      const bool sr = parse_flux_density_unit(m.unit).per_steradian;
+      const bool sr = prepare_flux_density(m, i, band);
       if (per_steradian && *per_steradian != sr) {
         throw InputError("photometry.unit", "mixes intensities (per steradian) and flux densities: the scale would "
                                             "mean a solid angle for some bands and an emissivity for others", i);
