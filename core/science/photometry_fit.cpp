@@ -177,39 +177,46 @@ class PhotometryResiduals final : public ceres::CostFunction {
 // The start (two_parameter_fit.h) with each band's model taken at its quoted wavelength, which is
 // enough to find the basin, and the measurements linearised in quoted F_nu.
 GridNode start_estimate(const MeasuredPhotometry& data, const PhotometryModel& model, double log_t_min, double log_t_max) {
-  const std::size_t n = data.bands.size();
-  std::vector<double> nu(n), prefactor(n), y(n), sigma(n), f(n);
-  for (std::size_t b = 0; b < n; ++b) {
-    const BandMeasurement& m = data.bands[b];
-    nu[b] = constants::kSpeedOfLight / m.quadrature.quoted_wavelength_m;
-    prefactor[b] = planck_prefactor(Convention::kEnergyPerFrequency, nu[b]);
-    y[b] = m.to_quoted_f_nu(m.value);
-    sigma[b] = m.scale == MeasurementScale::kFluxDensity ? model.sigma()[b] * m.to_quoted_f_nu(1.0)
-                                                         : y[b] * model.sigma()[b] / kMagnitudesPerLnFlux;
+  const Eigen::Index n = static_cast<Eigen::Index>(data.bands.size());
+  PointTerms terms;  // one point per band, at its quoted frequency; observed and weight linearised
+  terms.prefactor.resize(n);
+  terms.h_nu_over_k.resize(n);
+  terms.observed.resize(n);
+  terms.weight.resize(n);
+  Eigen::ArrayXd detected(n);
+  for (Eigen::Index b = 0; b < n; ++b) {
+    const BandMeasurement& m = data.bands[static_cast<std::size_t>(b)];
+    const double nu = constants::kSpeedOfLight / m.quadrature.quoted_wavelength_m;
+    terms.prefactor[b] = planck_prefactor(Convention::kEnergyPerFrequency, nu);
+    terms.h_nu_over_k[b] = constants::kPlanckOverBoltzmann * nu;
+    terms.observed[b] = m.to_quoted_f_nu(m.value);
+    const double sigma = m.scale == MeasurementScale::kFluxDensity ? model.sigma()[b] * m.to_quoted_f_nu(1.0)
+                                                                   : terms.observed[b] * model.sigma()[b] / kMagnitudesPerLnFlux;
+    terms.weight[b] = 1.0 / sigma;
+    detected[b] = m.upper_limit ? 0.0 : 1.0;
   }
+  terms.min_h_nu_over_k = terms.h_nu_over_k.minCoeff();
+  terms.max_h_nu_over_k = terms.h_nu_over_k.maxCoeff();
+  const PlanckKernel kernel(terms);
+  const Eigen::ArrayXd w2 = detected * terms.weight.square();
+  const Eigen::ArrayXd w2y = w2 * terms.observed;
+  const double yy = (w2y * terms.observed).sum();
   const auto profile = [&](double log_t) {
-    const double inverse_t = std::exp(-log_t);
-    double yf = 0.0, ff = 0.0, yy = 0.0;
-    for (std::size_t b = 0; b < n; ++b) {
-      f[b] = planck_from_prefactor(prefactor[b], constants::kPlanckOverBoltzmann * nu[b] * inverse_t);
-      if (data.bands[b].upper_limit) continue;
-      const double w2 = 1.0 / (sigma[b] * sigma[b]);
-      yf += w2 * y[b] * f[b];
-      ff += w2 * f[b] * f[b];
-      yy += w2 * y[b] * y[b];
-    }
+    kernel.evaluate(log_t, 0.0, 0, n, false);
+    const auto f = kernel.model().head(n);
+    const double yf = (w2y * f).sum(), ff = (w2 * f.square()).sum();
     if (!(ff > 0.0) || !std::isfinite(ff) || !(yf > 0.0)) return GridNode{log_t, -HUGE_VAL, HUGE_VAL};
     const double scale = yf / ff;
     double cost = std::max(yy - yf * scale, 0.0);
-    for (std::size_t b = 0; b < n; ++b) {
-      if (!data.bands[b].upper_limit) continue;
-      const double r = censored((y[b] - scale * f[b]) / sigma[b]).residual;
+    for (Eigen::Index b = 0; b < n; ++b) {
+      if (detected[b] != 0.0) continue;
+      const double r = censored((terms.observed[b] - scale * f[b]) * terms.weight[b]).residual;
       cost += r * r;
     }
     return GridNode{log_t, std::log(scale), cost};
   };
-  const auto [lo, hi] = start_range(*std::min_element(nu.begin(), nu.end()), *std::max_element(nu.begin(), nu.end()),
-                                    log_t_min, log_t_max);
+  const auto [lo, hi] = start_range(terms.h_nu_over_k.minCoeff() / constants::kPlanckOverBoltzmann,
+                                    terms.h_nu_over_k.maxCoeff() / constants::kPlanckOverBoltzmann, log_t_min, log_t_max);
   return search_log_temperature(lo, hi, profile);
 }
 
