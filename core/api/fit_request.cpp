@@ -118,6 +118,10 @@ void apply_request_members(std::string_view object_text, FitRequest& request) {
     if (const auto e = spectrum.find("exclude")) request.spectrum.exclude = ranges_at(*e, spectrum.at("exclude"));
   }
   apply_members(top, request);
+  // As in parse_fit_request: a spectrum has no use for it, so it is refused rather than ignored.
+  if (request.systematic_error && !request.photometry) {
+    fail("/options/systematic_error", "applies to photometry only (a table whose first column is band)");
+  }
 }
 
 std::string pointer_for_field(const std::string& field, const std::optional<std::size_t>& index) {

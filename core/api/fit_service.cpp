@@ -4,6 +4,7 @@
 #include <cmath>
 
 #include "api/fit_response.h"
+#include "api/json_reader.h"
 #include "api/problem.h"
 #include "science/input_error.h"
 #include "science/units.h"
@@ -248,6 +249,28 @@ const std::vector<std::string>& table_parameter_names() {
   return kNames;
 }
 
+namespace {
+
+// The "id" of a batch line whose request was refused while it was read (e.g. an unknown band): the
+// answer line still carries it when the line is a JSON object with exactly one valid id.
+std::optional<nlohmann::ordered_json> id_of_line(std::string_view line) {
+  try {
+    simdjson::dom::object object;
+    if (json_reading::parse_text(line).get_object().get(object)) return std::nullopt;
+    std::optional<nlohmann::ordered_json> id;
+    for (const auto field : object) {
+      if (field.key != "id") continue;
+      if (id) return std::nullopt;  // two ids: neither is the line's
+      id = json_reading::request_id(field.value);
+    }
+    return id;
+  } catch (const ProblemError&) {
+    return std::nullopt;
+  }
+}
+
+}  // namespace
+
 nlohmann::ordered_json fit_batch_line(std::string_view line, std::size_t index, const ServiceLimits& limits) {
   nlohmann::ordered_json out;
   out["index"] = index;
@@ -260,6 +283,7 @@ nlohmann::ordered_json fit_batch_line(std::string_view line, std::size_t index, 
     out["status"] = 200;
     out["response"] = std::move(response);
   } catch (const ProblemError& e) {
+    if (!id) id = id_of_line(line);
     if (id) out["id"] = *id;
     out["status"] = e.problem().status;
     out["problem"] = e.problem().to_json();
