@@ -85,11 +85,13 @@ nlohmann::ordered_json models_document() {
        json::array({
            {{"name", "temperature_bounds"}, {"unit", "K"}, {"default", {defaults.min_temperature_k, defaults.max_temperature_k}}},
            {{"name", "loss"}, {"kinds", {"none", "huber", "cauchy"}}, {"default", "none"},
-            {"scale_default", defaults.loss_scale}, {"scale_unit", "sigma"}},
+            {"scale_default", defaults.loss_scale}, {"scale_unit", "sigma"}, {"applies_to", "spectrum"}},
            {{"name", "distance"}, {"units", documented_length_units()}, {"default", nullptr}},
            {{"name", "max_iterations"}, {"default", defaults.max_iterations}},
            {{"name", "time_budget_seconds"}, {"unit", "s"}, {"default", defaults.time_budget_seconds}},
+           {{"name", "systematic_error"}, {"unit", "fraction of the flux"}, {"default", 0.0}, {"applies_to", "photometry"}},
        })},
+      {"data", {"spectrum", "photometry"}},
       {"method", "grid start over ln T, then Levenberg-Marquardt in Ceres Solver; covariance intervals"},
   };
   return {{"models", json::array({planck})}};
@@ -106,6 +108,7 @@ nlohmann::ordered_json units_document() {
           {"intensity", intensity},
           {"relative", relative},
           {"distance", documented_length_units()},
+          {"magnitudes", {"ABmag", "Vegamag"}},
           {"syntax", "slash style (erg/s/cm2/Angstrom) or IVOA VOUnit (erg.s**-1.cm**-2.Angstrom**-1); powers as "
                      "m2, m-2, m^2 or m**2; any SI prefix (u for micro)"}};
 }

@@ -127,16 +127,17 @@ MeasuredPhotometry prepare_photometry(const PhotometryInput& input) {
     band.upper_limit = m.upper_limit;
     band.quoted = m.quoted.value_or(m.band->quoted);
     const bool magnitude = m.unit == "ABmag" || m.unit == "Vegamag";
+    bool sr = false;  // magnitudes are of a source's flux density, never per steradian
     if (magnitude) {
       prepare_magnitude(m, i, band);
     } else {
-      const bool sr = prepare_flux_density(m, i, band);
-      if (per_steradian && *per_steradian != sr) {
-        throw InputError("photometry.unit", "mixes intensities (per steradian) and flux densities: the scale would "
-                                            "mean a solid angle for some bands and an emissivity for others", i);
-      }
-      per_steradian = sr;
+      sr = prepare_flux_density(m, i, band);
     }
+    if (per_steradian && *per_steradian != sr) {
+      throw InputError("photometry.unit", "mixes intensities (per steradian) with flux densities or magnitudes: the "
+                                          "scale would mean a solid angle for some bands and an emissivity for others", i);
+    }
+    per_steradian = sr;
     if (!std::isfinite(m.value) || (!magnitude && !(m.value > 0.0) && !m.upper_limit)) {
       throw InputError("photometry.value", magnitude ? "must be a finite magnitude" : "must be a positive flux density "
                                                        "(a non-detection is an upper limit)", i);
@@ -177,8 +178,10 @@ MeasuredPhotometry prepare_photometry(const PhotometryInput& input) {
   }
   out.has_errors = detections_with_error != 0;
   if (!out.has_errors && out.upper_limits != 0) {
+    std::size_t first_without = 0;
+    while (input.measurements[first_without].upper_limit) ++first_without;
     throw InputError("photometry.error", "upper limits are weighed against the detections' errors: give every "
-                                         "detection an error", 0);
+                                         "detection an error", first_without);
   }
   out.per_steradian = per_steradian.value_or(false);
   out.min_frequency_hz = HUGE_VAL;

@@ -342,5 +342,31 @@ TEST(PhotometryInputs, BadMeasurementsNameTheirField) {
   rejects(sr, "photometry.unit");
 }
 
+TEST(PhotometryInputs, RegressionsFoundByTheServiceTests) {
+  // Magnitudes are per source: beside intensities they were taken as per steradian (a 586 K answer).
+  PhotometryInput mixed = simulate({"johnson-b", "johnson-v", "cousins-r"}, 6000.0, 1e-17, "ABmag", 0.02, 3);
+  mixed.measurements[1].unit = "MJy/sr";
+  mixed.measurements[2].unit = "MJy/sr";
+  try {
+    prepare_photometry(mixed);
+    ADD_FAILURE() << "accepted";
+  } catch (const InputError& e) {
+    EXPECT_EQ(e.field(), "photometry.unit");
+    EXPECT_EQ(e.index(), 1u);
+  }
+  // A limit first and detections without errors: the problem names the first detection, not index 0.
+  PhotometryInput limit_first = simulate({"johnson-b", "johnson-v", "cousins-r"}, 6000.0, 1e-17, "Jy", 0.02, 3);
+  limit_first.measurements[0].upper_limit = true;
+  limit_first.measurements[1].error.reset();
+  limit_first.measurements[2].error.reset();
+  try {
+    prepare_photometry(limit_first);
+    ADD_FAILURE() << "accepted";
+  } catch (const InputError& e) {
+    EXPECT_EQ(e.field(), "photometry.error");
+    EXPECT_EQ(e.index(), 1u);
+  }
+}
+
 }  // namespace
 }  // namespace planckton
