@@ -750,3 +750,45 @@ def planck_spectrum(n, temperature=5000.0, lo_nm=300.0, hi_nm=2300.0, scale=1e-1
 
 def compact(doc):
     return json.dumps(doc, separators=(",", ":"))
+
+
+def read_passband_file(repo, band):
+    """A shipped curve file, core/data/passbands/<band>.csv: its '# key: value' comments (notes as a
+    list) and its samples, wavelengths in micrometres as the file gives them."""
+    meta, notes, wavelength, response = {}, [], [], []
+    header_seen = False
+    with open(os.path.join(repo, "core", "data", "passbands", band + ".csv"), encoding="utf-8") as f:
+        for raw in f:
+            line = raw.strip()
+            if not line:
+                continue
+            if line.startswith("#"):
+                key, sep, value = line[1:].strip().partition(": ")
+                if sep and key == "note":
+                    notes.append(value.strip())
+                elif sep:
+                    meta[key] = value.strip()
+                continue
+            if not header_seen:
+                header_seen = True  # wavelength_um,response
+                continue
+            w, s = line.split(",")
+            wavelength.append(float(w))
+            response.append(float(s))
+    return {"meta": meta, "notes": notes, "wavelength_um": wavelength, "response": response}
+
+
+def check_served_paths(checks, server, method, paths):
+    """The served /openapi.yaml documents `method` (lower case) on each of the paths."""
+    import yaml
+    r = http("GET", server, "/openapi.yaml")
+    served = None
+    if is_response(r) and r.status_code == 200:
+        try:
+            served = yaml.safe_load(r.content)
+        except yaml.YAMLError:
+            served = None
+    documented = (served or {}).get("paths") or {} if isinstance(served, dict) else {}
+    missing = [p for p in paths if method not in (documented.get(p) or {})]
+    checks.check(f"GET /openapi.yaml documents {method.upper()} " + " and ".join(paths), served is not None and not missing,
+                 describe(r, 120) if served is None else f"missing {missing}")

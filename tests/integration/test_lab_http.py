@@ -381,29 +381,13 @@ def bad_input(server, lab):
                          code == 2 and field in err and out is None, f"exit {code}, stderr {err.strip()[:200]!r}")
 
 
-def served_document(server):
-    """The served /openapi.yaml documents both laboratory endpoints."""
-    import yaml
-    r = http("GET", server, "/openapi.yaml")
-    served = None
-    if is_response(r) and r.status_code == 200:
-        try:
-            served = yaml.safe_load(r.content)
-        except yaml.YAMLError:
-            served = None
-    paths = (served or {}).get("paths") or {} if isinstance(served, dict) else {}
-    missing = [p for p in (LIGHT, HOT) if "post" not in (paths.get(p) or {})]
-    checks.check("GET /openapi.yaml documents POST /v1/light and POST /v1/hot-body", served is not None and not missing,
-                 describe(r, 120) if served is None else f"missing {missing}")
-
-
 def main():
     server = start_checked_server(checks, schema, args.server)
     if server is None:
         return
     lab = samples(server)
     bad_input(server, lab)
-    served_document(server)
+    harness.check_served_paths(checks, server, "post", (LIGHT, HOT))
     server.stop(checks)
 
 

@@ -45,28 +45,7 @@ def read_index():
 
 
 def read_curve(band):
-    """One curve file: its '# key: value' comments (notes as a list) and its samples in um."""
-    meta, notes, wavelength, response = {}, [], [], []
-    header_seen = False
-    with open(os.path.join(PASSBANDS, band + ".csv"), encoding="utf-8") as f:
-        for raw in f:
-            line = raw.strip()
-            if not line:
-                continue
-            if line.startswith("#"):
-                key, sep, value = line[1:].strip().partition(": ")
-                if sep and key == "note":
-                    notes.append(value.strip())
-                elif sep:
-                    meta[key] = value.strip()
-                continue
-            if not header_seen:
-                header_seen = True  # wavelength_um,response
-                continue
-            w, s = line.split(",")
-            wavelength.append(float(w))
-            response.append(float(s))
-    return {"meta": meta, "notes": notes, "wavelength_um": wavelength, "response": response}
+    return harness.read_passband_file(args.repo, band)
 
 
 def trapezoid_pivot_nm(curve):
@@ -287,21 +266,6 @@ def metrics_checks(server, n_bands):
     checks.check("no route label names a single band", not per_id, repr(per_id))
 
 
-def served_document(server):
-    import yaml
-    r = http("GET", server, "/openapi.yaml")
-    served = None
-    if is_response(r) and r.status_code == 200:
-        try:
-            served = yaml.safe_load(r.content)
-        except yaml.YAMLError:
-            served = None
-    paths = (served or {}).get("paths") or {} if isinstance(served, dict) else {}
-    missing = [p for p in (LIST, ONE) if "get" not in (paths.get(p) or {})]
-    checks.check(f"GET /openapi.yaml documents GET {LIST} and GET {ONE}", served is not None and not missing,
-                 describe(r, 120) if served is None else f"missing {missing}")
-
-
 def main():
     index = read_index()
     curves = {row["band"]: read_curve(row["band"]) for row in index}
@@ -312,7 +276,7 @@ def main():
     band_checks(server, by_id, curves)
     error_checks(server, [row["band"] for row in index])
     metrics_checks(server, len(curves))
-    served_document(server)
+    harness.check_served_paths(checks, server, "get", (LIST, ONE))
     server.stop(checks)
 
 

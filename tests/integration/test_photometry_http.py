@@ -53,19 +53,8 @@ SCALE = {4000.0: 1.0e-18, 20000.0: 1.0e-20}   # solid angles (sr) of the synthet
 def read_curve(band):
     """A curve file of core/data/passbands: wavelengths (m) and responses."""
     import numpy as np
-    wavelength, response, header_seen = [], [], False
-    with open(os.path.join(PASSBANDS, band + ".csv"), encoding="utf-8") as f:
-        for raw in f:
-            line = raw.strip()
-            if not line or line.startswith("#"):
-                continue
-            if not header_seen:
-                header_seen = True  # wavelength_um,response
-                continue
-            w, s = line.split(",")
-            wavelength.append(float(w) * 1e-6)
-            response.append(float(s))
-    return np.array(wavelength), np.array(response)
+    curve = harness.read_passband_file(args.repo, band)
+    return np.array(curve["wavelength_um"]) * 1e-6, np.array(curve["response"])
 
 
 def refined(band):
