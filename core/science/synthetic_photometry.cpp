@@ -72,7 +72,6 @@ void gauss_rule_for_measure(const std::vector<double>& u, const std::vector<doub
   const std::size_t size = u.size();
   std::vector<double> p_previous(size, 0.0), p(size, 1.0), p_next(size);
   Eigen::VectorXd alpha(n), beta(n);
-  double norm_previous = 1.0;
   int computed = 0;
   for (int k = 0; k < n; ++k) {
     double norm = 0.0, first = 0.0;
@@ -80,19 +79,20 @@ void gauss_rule_for_measure(const std::vector<double>& u, const std::vector<doub
       norm += m[q] * p[q] * p[q];
       first += m[q] * u[q] * p[q] * p[q];
     }
-    // A measure with fewer points of positive mass than n supports fewer orthogonal polynomials.
-    if (!(norm > 1e-30 * (k == 0 ? 1.0 : norm_previous)) || (k > 0 && !(norm > 0.0))) break;
+    // A measure with fewer points of positive mass than n supports fewer orthogonal polynomials: the
+    // norm (relative to the previous one, after the rescaling below) then vanishes to rounding.
+    if (!(norm > (k == 0 ? 0.0 : 1e-26))) break;
     alpha[k] = first / norm;
-    beta[k] = k == 0 ? norm : norm / norm_previous;
+    beta[k] = norm;  // beta_0 is the measure's total mass; later ones are relative, see below
     ++computed;
     for (std::size_t q = 0; q < size; ++q) p_next[q] = (u[q] - alpha[k]) * p[q] - (k == 0 ? 0.0 : beta[k] * p_previous[q]);
-    // Rescale to keep the polynomials of order one; the recurrence coefficients are unaffected.
+    // Rescale both polynomials so that p_k has unit norm: the next norm is then the ratio
+    // beta_(k+1) = |p_(k+1)|^2 / |p_k|^2 itself, and the recurrence coefficients are unaffected.
     const double scale = 1.0 / std::sqrt(norm);
     for (std::size_t q = 0; q < size; ++q) {
       p_previous[q] = p[q] * scale;
       p[q] = p_next[q] * scale;
     }
-    norm_previous = 1.0;
   }
   if (computed == 0) return;  // no mass in this panel: no nodes
   Eigen::MatrixXd jacobi = Eigen::MatrixXd::Zero(computed, computed);
