@@ -149,8 +149,9 @@ std::optional<std::string> parameter_of(const std::string& pointer) {
 
 }  // namespace
 
-nlohmann::ordered_json fit(FitRequest request, const ServiceLimits& limits) {
+FitOutcome fit_outcome(FitRequest request, const ServiceLimits& limits) {
   apply_limits(limits, request);
+  FitOutcome out;
   try {
     std::optional<Distance> distance;
     if (request.distance) {
@@ -158,18 +159,28 @@ nlohmann::ordered_json fit(FitRequest request, const ServiceLimits& limits) {
                           request.distance->error / request.distance->value};
     }
     if (request.photometry) {
-      const MeasuredPhotometry data = prepare_photometry(request.photometry->input);
-      const PhotometryFitResult result = fit_planck_photometry(data, request.fit_options);
-      const FluxDensityUnit unit = parse_flux_density_unit(data.per_steradian ? "MJy/sr" : "Jy");
-      return make_photometry_response(request, data, result, unit, derive_quantities(result.fit, unit, distance));
+      out.photometry = prepare_photometry(request.photometry->input);
+      out.photometry_fit = fit_planck_photometry(*out.photometry, request.fit_options);
+      out.fit = out.photometry_fit->fit;
+      out.unit = parse_flux_density_unit(out.photometry->per_steradian ? "MJy/sr" : "Jy");
+      out.derived = derive_quantities(out.fit, out.unit, distance);
+      out.response = make_photometry_response(request, *out.photometry, *out.photometry_fit, out.unit, out.derived);
+    } else {
+      out.spectrum = prepare_spectrum(request.spectrum);
+      out.fit = fit_planck(*out.spectrum, request.fit_options);
+      out.unit = out.spectrum->y_unit;
+      out.derived = derive_quantities(out.fit, out.unit, distance);
+      out.response = make_fit_response(request, *out.spectrum, out.fit, out.derived);
     }
-    const MeasuredSpectrum spectrum = prepare_spectrum(request.spectrum);
-    const PlanckFitResult result = fit_planck(spectrum, request.fit_options);
-    const DerivedQuantities derived = derive_quantities(result, spectrum.y_unit, distance);
-    return make_fit_response(request, spectrum, result, derived);
   } catch (const InputError& e) {
     throw problem_for(e);
   }
+  out.request = std::move(request);
+  return out;
+}
+
+nlohmann::ordered_json fit(FitRequest request, const ServiceLimits& limits) {
+  return fit_outcome(std::move(request), limits).response;
 }
 
 nlohmann::ordered_json fit_json_text(std::string_view text, const ServiceLimits& limits) {

@@ -17,6 +17,7 @@
 #include "api/problem.h"
 #include "api/table_reader.h"
 #include "science/input_error.h"
+#include "science/photometry_fit.h"
 
 namespace planckton::api {
 
@@ -32,6 +33,22 @@ ProblemError problem_for(const InputError& error);
 // The service's limits applied to a parsed request: too many points is a 413 problem; the time
 // budget is capped.
 void apply_limits(const ServiceLimits& limits, FitRequest& request);
+
+// Everything a fit produced, for the representations other than the JSON document (SVG plots, CSV
+// of the model on the data's grid). One of spectrum / photometry is set, with its fit.
+struct FitOutcome {
+  FitRequest request;  // owns the inline passbands the photometry points to
+  std::optional<MeasuredSpectrum> spectrum;
+  std::optional<MeasuredPhotometry> photometry;
+  PlanckFitResult fit;                 // the estimate (for photometry: photometry_fit->fit)
+  std::optional<PhotometryFitResult> photometry_fit;
+  FluxDensityUnit unit;                // of the data; Jy or MJy/sr for photometry
+  DerivedQuantities derived;
+  nlohmann::ordered_json response;     // the JSON document
+};
+
+// A parsed request -> everything the fit produced.
+FitOutcome fit_outcome(FitRequest request, const ServiceLimits& limits = {});
 
 // A parsed request -> the response document.
 nlohmann::ordered_json fit(FitRequest request, const ServiceLimits& limits = {});

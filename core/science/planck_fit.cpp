@@ -266,6 +266,17 @@ double PlanckFitResult::log_correlation() const {
   return log_covariance[1] / std::sqrt(log_covariance[0] * log_covariance[3]);
 }
 
+ModelPoint fitted_curve(const PlanckFitResult& fit, Convention convention, double frequency_hz) {
+  ModelPoint point;
+  point.value = fit.scale * planck_radiance(convention, frequency_hz, fit.temperature_k);
+  if (fit.covariance_available) {
+    const double s = planck_log_temperature_slope(reduced_frequency(frequency_hz, fit.temperature_k));
+    const auto& c = fit.log_covariance;
+    point.log_sigma = std::sqrt(std::max(s * s * c[0] + 2.0 * s * c[1] + c[3], 0.0));
+  }
+  return point;
+}
+
 PlanckFitResult fit_planck(const MeasuredSpectrum& spectrum, const PlanckFitOptions& options) {
   validate_options(options);
   const std::size_t n = spectrum.size();

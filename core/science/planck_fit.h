@@ -105,6 +105,15 @@ struct PlanckFitResult {
   double log_correlation() const;
 };
 
+// The fitted curve scale * B(nu; T) in a convention (SI; per steradian for intensities), and the
+// linearised one-sigma of its logarithm from the covariance: var ln m = s^2 C_TT + 2 s C_TS + C_SS
+// with s = d ln B / d ln T (planck.h). For plots and tables of the model; 0 without a covariance.
+struct ModelPoint {
+  double value = 0.0;
+  double log_sigma = 0.0;
+};
+ModelPoint fitted_curve(const PlanckFitResult& fit, Convention convention, double frequency_hz);
+
 // Throws InputError when the spectrum has fewer points than free parameters or the options are
 // inconsistent (field names: "options.temperature_bounds", "options.loss", "options.max_scale").
 PlanckFitResult fit_planck(const MeasuredSpectrum& spectrum, const PlanckFitOptions& options);
