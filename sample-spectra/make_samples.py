@@ -24,8 +24,17 @@ Usage (from the repository root):
     /usr/bin/python3 sample-spectra/make_samples.py           # write the files
     /usr/bin/python3 sample-spectra/make_samples.py --check   # write, then fit
 
-The default run needs numpy only and is deterministic: running it twice gives
-byte-identical files (every number is written with a fixed printf format).
+The default run needs numpy and astropy (astropy.io.fits, for the .fits files
+only) and is deterministic: running it twice gives byte-identical files (every
+number is written with a fixed printf format; the FITS headers carry no DATE
+and no CHECKSUM, whose comments would hold the time of writing).
+
+The FITS files are the same data as the CSV files, not new realisations: an
+image with a WCS and an ERR HDU (TMS-0047), an image whose axis is in air
+wavelengths with an IVAR HDU (bench lamp QL-3), binary-table spectra with one
+row per point (TMS-0112) and one row of arrays (TMS-0203), and the TMS-0203
+catalogue magnitudes as a table of band measurements; see "FITS versions"
+below.
 --check additionally needs scipy; it re-reads the written CSV and JSON files,
 fits a Planck curve to each and compares the fit with truth.json (the photometry
 with this file's own band integrals and scipy's least_squares).
@@ -1002,8 +1011,151 @@ def main():
     truth["photometry_samples"][0]["seed_note"] = PHOTOMETRY_SEED_NOTE
     write_text("truth.json", dump_json(truth) + "\n")
     write_batch(samples)
+    write_fits_samples(samples)
     if "--check" in sys.argv[1:]:
         sys.exit(check(truth) | check_lab(truth, cmf) | check_photometry(truth))
+
+
+# ---------------------------------------------------------------------------
+# FITS versions (FITS Standard 4.0, written with astropy.io.fits): the numbers of the CSV files just
+# written, read back from them, so that a FITS file and its CSV hold the same values; no new noise is
+# drawn and truth.json is unchanged. Headers carry no DATE and no CHECKSUM, so reruns are byte-identical.
+
+FITS_ORIGIN = "planckton sample-spectra/make_samples.py"
+
+
+def air_wavelength_nm(vacuum_nm):
+    """Vacuum -> air: Morton 2000 (ApJS 130, 403) eq. 8, n as a function of the vacuum wavenumber
+    s = 1e4 / lambda[Angstrom] (written here independently of core/science/air_wavelength.cpp)."""
+    s2 = (1e4 / (np.asarray(vacuum_nm) * 10.0)) ** 2
+    n = 1.0 + 8.34254e-5 + 2.406147e-2 / (130.0 - s2) + 1.5998e-4 / (38.9 - s2)
+    return np.asarray(vacuum_nm) / n
+
+
+def vacuum_wavelength_nm(air_nm):
+    """Air -> vacuum: N. Piskunov's inverse of Morton 2000 eq. 8 (VALD), s = 1e4 / lambda_air[Angstrom]."""
+    s2 = (1e4 / (np.asarray(air_nm) * 10.0)) ** 2
+    n = (1.0 + 8.336624212083e-5 + 2.408926869968e-2 / (130.1065924522 - s2)
+         + 1.599740894897e-4 / (38.92568793293 - s2))
+    return np.asarray(air_nm) * n
+
+
+def read_written_csv(name):
+    """The header and columns of a CSV file this script wrote, as floats (or text for text columns)."""
+    with open(os.path.join(HERE, name), encoding="ascii") as fh:
+        rows = [line.rstrip("\n").split(",") for line in fh if not line.startswith("#")]
+    header, rows = rows[0], rows[1:]
+    columns = {}
+    for i, name_ in enumerate(header):
+        values = [r[i] for r in rows]
+        try:
+            columns[name_] = np.array([float(v) for v in values])
+        except ValueError:
+            columns[name_] = values
+    return columns
+
+
+def fits_primary(fits, obj, extra_comments=()):
+    """An empty primary HDU that says what the file is."""
+    primary = fits.PrimaryHDU()
+    primary.header["OBJECT"] = obj
+    primary.header["ORIGIN"] = FITS_ORIGIN
+    for c in ["Synthetic demo data of an invented scenario (Tallow Moor Observatory,",
+              "Cinder Street photometry lab); the true values are in truth.json."] + list(extra_comments):
+        assert len(c) <= 72, c  # one COMMENT record each
+        primary.header.add_comment(c)
+    return primary
+
+
+def linear_axis(x):
+    """CRVAL1, CDELT1 of a grid that is linear to the last digit written (checked)."""
+    step = (x[-1] - x[0]) / (len(x) - 1)
+    assert np.max(np.abs(x - (x[0] + step * np.arange(len(x))))) < 1e-9 * max(abs(x[0]), abs(x[-1]))
+    return float(x[0]), float(step)
+
+
+def write_fits(fits, name, hdus):
+    fits.HDUList(hdus).writeto(os.path.join(HERE, name), overwrite=True, output_verify="exception")
+
+
+def write_fits_samples(samples):
+    """Writes the five .fits files; returns notes for the README (the air grid's largest deviation)."""
+    try:
+        from astropy.io import fits
+    except ImportError:
+        sys.exit("make_samples.py: the .fits files need astropy (Debian: python3-astropy)")
+    by_stem = {s["stem"]: s for s in samples}
+
+    # (1) TMS-0047: a 1-D image on a linear vacuum wavelength axis (CTYPE1 WAVE, nm), and its errors.
+    s = by_stem["tms-0047-hot-star"]
+    c = read_written_csv(s["stem"] + ".csv")
+    crval, cdelt = linear_axis(c["x"])
+    flux = fits.ImageHDU(c["y"], name="FLUX")
+    for key, value in [("CTYPE1", "WAVE"), ("CUNIT1", "nm"), ("CRVAL1", crval), ("CDELT1", cdelt), ("CRPIX1", 1.0),
+                       ("BUNIT", s["y_unit"])]:
+        flux.header[key] = value
+    err = fits.ImageHDU(c["y_error"], name="ERR")
+    err.header["BUNIT"] = s["y_unit"]
+    write_fits(fits, s["stem"] + ".fits", [fits_primary(fits, "TMS-0047", [
+        "HDU 1 FLUX: the spectrum of tms-0047-hot-star.csv on its WCS axis.",
+        "HDU 2 ERR: its 1-sigma errors. The exclude ranges of the absorption",
+        "lines are in tms-0047-hot-star.json, not here."]), flux, err])
+
+    # (2) Bench lamp QL-3 with its pixels labelled in air (CTYPE1 AWAV), as a spectrometer in the lab's
+    # air would report them, and inverse-variance errors. The air axis is the straight line through
+    # the air wavelengths of the first and last pixels of the CSV's vacuum grid; the vacuum
+    # wavelengths a reader computes from it differ from that grid by at most `deviation_nm`.
+    s = by_stem["ql3-bench-lamp"]
+    c = read_written_csv(s["stem"] + ".csv")
+    n = len(c["x"])
+    air_ends = air_wavelength_nm(np.array([c["x"][0], c["x"][-1]]))
+    air_step = float((air_ends[1] - air_ends[0]) / (n - 1))
+    air_axis = air_ends[0] + air_step * np.arange(n)
+    deviation_nm = float(np.max(np.abs(vacuum_wavelength_nm(air_axis) - c["x"])))
+    lamp = fits.ImageHDU(c["y"], name="RADIANCE")
+    for key, value in [("CTYPE1", "AWAV"), ("CUNIT1", "nm"), ("CRVAL1", float(air_ends[0])), ("CDELT1", air_step),
+                       ("CRPIX1", 1.0), ("BUNIT", s["y_unit"])]:
+        lamp.header[key] = value
+    ivar = fits.ImageHDU(1.0 / c["y_error"] ** 2, name="IVAR")
+    write_fits(fits, s["stem"] + ".fits", [fits_primary(fits, "bench lamp QL-3", [
+        "HDU 1 RADIANCE: ql3-bench-lamp.csv with its axis in standard air",
+        "(AWAV); converted to vacuum (Morton 2000, ApJS 130, 403) the axis",
+        "matches the CSV's vacuum grid to %.1e nm." % deviation_nm,
+        "HDU 2 IVAR: the inverse variance, 1 / y_error^2."]), lamp, ivar])
+
+    # (3) TMS-0112: a binary table, one row per point (the grid has telluric gaps).
+    s = by_stem["tms-0112-cool-star"]
+    c = read_written_csv(s["stem"] + ".csv")
+    table = fits.BinTableHDU.from_columns([
+        fits.Column(name="WAVELENGTH", format="D", unit=s["x_unit"], array=c["x"]),
+        fits.Column(name="FLUX", format="D", unit=s["y_unit"], array=c["y"]),
+        fits.Column(name="FLUX_ERR", format="D", unit=s["y_unit"], array=c["y_error"])], name="SPECTRUM")
+    write_fits(fits, s["stem"] + ".fits", [fits_primary(fits, "TMS-0112", [
+        "HDU 1 SPECTRUM: tms-0112-cool-star.csv, one row per point."]), table])
+
+    # (4) TMS-0203: one row whose columns are arrays, on its frequency grid, without errors.
+    s = by_stem["tms-0203-sunlike-star"]
+    c = read_written_csv(s["stem"] + ".csv")
+    n = len(c["x"])
+    table = fits.BinTableHDU.from_columns([
+        fits.Column(name="FREQ", format="%dD" % n, unit=s["x_unit"], array=c["x"].reshape(1, n)),
+        fits.Column(name="FLUX", format="%dD" % n, unit=s["y_unit"], array=c["y"].reshape(1, n))], name="SPECTRUM")
+    write_fits(fits, s["stem"] + ".fits", [fits_primary(fits, "TMS-0203", [
+        "HDU 1 SPECTRUM: tms-0203-sunlike-star.csv as one row of arrays of",
+        "%d elements; no errors. The exclude ranges of the absorption lines" % n,
+        "are in tms-0203-sunlike-star.json, not here."]), table])
+
+    # (5) TMS-0203's catalogue magnitudes: a table of band measurements.
+    c = read_written_csv("tms-0203-catalogue-sed.csv")
+    table = fits.BinTableHDU.from_columns([
+        fits.Column(name="BAND", format="12A", array=np.array(c["band"])),
+        fits.Column(name="VALUE", format="D", array=c["value"]),
+        fits.Column(name="ERROR", format="D", array=c["error"]),
+        fits.Column(name="UNIT", format="8A", array=np.array(c["unit"]))], name="PHOTOMETRY")
+    write_fits(fits, "tms-0203-catalogue-sed.fits", [fits_primary(fits, "TMS-0203", [
+        "HDU 1 PHOTOMETRY: the band measurements of tms-0203-catalogue-sed.csv.",
+        "The distance (85 pc) is in tms-0203-catalogue-sed.json, not here."]), table])
+    return {"lamp_air_grid_deviation_nm": deviation_nm}
 
 
 # ---------------------------------------------------------------------------
