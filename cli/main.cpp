@@ -1,8 +1,10 @@
 // planckton: the command-line front end. It only carries requests: it reads a JSON request or a
 // table, hands it to the api layer, and prints the response document (the same document that
-// POST /v1/fit answers) or the problem on stderr.
+// POST /v1/fit answers) or the problem on stderr. `fit --output csv|svg` prints the fit's CSV table
+// or SVG picture instead (api/fit_representation.h), `fit --plot FILE` also writes the SVG to FILE.
 //
-// Exit codes: 0 success, 2 bad input (a problem document), 3 an unexpected internal error.
+// Exit codes: 0 success, 2 bad input (a problem document, or a --plot file that cannot be written),
+// 3 an unexpected internal error.
 #include <CLI/CLI.hpp>
 
 #include <algorithm>
@@ -13,6 +15,8 @@
 #include <string>
 #include <vector>
 
+#include "api/fit_representation.h"
+#include "api/fits_reader.h"
 #include "api/fit_service.h"
 #include "api/lab_documents.h"
 #include "api/problem.h"
@@ -26,6 +30,8 @@ struct FitArguments {
   std::string file;
   std::string format = "auto";
   bool compact = false;
+  std::string output = "json";  // what is printed: json, csv or svg
+  std::string plot;             // also write the SVG here
   // Table settings, by their api parameter names (see api/fit_service.h).
   std::vector<std::string> exclude;
 };
@@ -43,6 +49,25 @@ bool looks_like_json(const std::string& text, const std::string& format) {
   if (format != "auto") return format == "json";
   const auto first = text.find_first_not_of(" \t\r\n");
   return first != std::string::npos && text[first] == '{';
+}
+
+// A JSON request, a FITS file (by its first bytes) or a table, by --format or by content.
+planckton::api::FitOutcome fit_input(const std::string& text, const FitArguments& args,
+                                     const planckton::api::TableParameters& parameters) {
+  if (args.format == "fits" || (args.format == "auto" && planckton::api::looks_like_fits(text))) {
+    return planckton::api::fit_fits_outcome(text, parameters);
+  }
+  if (looks_like_json(text, args.format)) return planckton::api::fit_json_outcome(text);
+  return planckton::api::fit_table_outcome(text, parameters);
+}
+
+void write_file(const std::string& path, const std::string& content) {
+  std::ofstream out(path, std::ios::binary | std::ios::trunc);
+  out << content;
+  out.close();
+  if (!out) {
+    throw planckton::api::ProblemError(planckton::api::invalid_parameter("--plot", "cannot write '" + path + "'"));
+  }
 }
 
 planckton::api::TableParameters table_parameters(const FitArguments& args,
@@ -64,8 +89,11 @@ int main(int argc, char** argv) {
   CLI::App* fit = app.add_subcommand("fit", "Fit a spectrum or band photometry given as a JSON request or a CSV/TSV/whitespace table "
                                   "(a photometry table has the columns band,value,error,unit[,upper_limit])");
   fit->add_option("file", args.file, "JSON request or table file ('-' reads standard input)")->required();
-  fit->add_option("--format", args.format, "input format")->check(CLI::IsMember({"auto", "json", "table"}));
+  fit->add_option("--format", args.format, "input format")->check(CLI::IsMember({"auto", "json", "table", "fits"}));
   fit->add_flag("--compact", args.compact, "print the response on one line");
+  fit->add_option("--output", args.output, "what to print: the JSON response, the CSV table of data and model, or the SVG plot")
+      ->check(CLI::IsMember({"json", "csv", "svg"}));
+  fit->add_option("--plot", args.plot, "also write the SVG plot of the fit to this file");
 
   // Each table flag carries the api parameter of the same name (--x-unit is x_unit ...).
   const std::vector<std::pair<std::string, std::string>> kTableFlags = {
@@ -82,13 +110,15 @@ int main(int argc, char** argv) {
       {"temperature_max", "upper temperature bound, K"},
       {"time_budget_seconds", "time budget of the fit, s"},
       {"systematic_error", "photometry: systematic error floor, a fraction of the flux"},
+      {"hdu", "FITS: the HDU to read, by EXTNAME or 0-based number"},
+      {"error_hdu", "FITS: the HDU of the errors of an image spectrum, by EXTNAME or 0-based number, or 'none'"},
   };
   std::vector<std::string> values(kTableFlags.size());
   std::vector<std::pair<std::string, std::string*>> flags;
   for (std::size_t i = 0; i < kTableFlags.size(); ++i) {
     std::string flag = "--" + kTableFlags[i].first;
     std::replace(flag.begin(), flag.end(), '_', '-');
-    fit->add_option(flag, values[i], "for a table: " + kTableFlags[i].second);
+    fit->add_option(flag, values[i], "for a table or FITS file: " + kTableFlags[i].second);
     flags.emplace_back(kTableFlags[i].first, &values[i]);
   }
   fit->add_option("--exclude", args.exclude, "for a table: mask the x range LO:HI (in --x-unit); repeatable");
@@ -115,9 +145,17 @@ int main(int argc, char** argv) {
     } else if (hot_body->parsed()) {
       response = planckton::api::hot_body_text(read_input(lab_file));
     } else {
-      const std::string text = read_input(args.file);
-      response = looks_like_json(text, args.format) ? planckton::api::fit_json_text(text)
-                                                    : planckton::api::fit_table_text(text, table_parameters(args, flags));
+      const planckton::api::FitOutcome outcome = fit_input(read_input(args.file), args, table_parameters(args, flags));
+      if (!args.plot.empty()) write_file(args.plot, planckton::api::represent(outcome, planckton::api::FitRepresentation::kSvg));
+      if (args.output == "csv") {
+        std::cout << planckton::api::represent(outcome, planckton::api::FitRepresentation::kCsv);
+        return 0;
+      }
+      if (args.output == "svg") {
+        std::cout << planckton::api::represent(outcome, planckton::api::FitRepresentation::kSvg);
+        return 0;
+      }
+      response = outcome.response;
     }
     std::cout << (args.compact ? response.dump() : response.dump(2)) << '\n';
     return 0;

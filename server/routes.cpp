@@ -13,6 +13,7 @@
 #include <unistd.h>
 
 #include "api/catalogue.h"
+#include "api/fit_representation.h"
 #include "api/fit_service.h"
 #include "api/lab_documents.h"
 #include "api/problem.h"
@@ -126,28 +127,28 @@ class Routes {
     }
   }
 
+  // POST /v1/fit. The representation of the answer (JSON, SVG or CSV) is chosen first, from the
+  // `format` parameter or the Accept header; then the body's media type chooses its reader. Problems
+  // are answered as application/problem+json whatever was asked.
   void fit(const httplib::Request& request, httplib::Response& response) {
+    response.set_header("Vary", "Accept");
+    const api::FitRepresentation representation =
+        api::choose_fit_representation(format_parameter(request), request.get_header_value("Accept"));
     const std::string type = media_type(request);
-    nlohmann::ordered_json document;
     if (type == "application/json") {
-      if (!request.params.empty()) {
-        throw ProblemError(api::invalid_parameter(request.params.begin()->first,
-                                                  "query parameters apply to tables only; put the settings in the "
-                                                  "JSON request's model and options"));
-      }
-      document = api::fit_json_text(request.body, limits_);
-    } else if (type == "text/csv" || type == "text/tab-separated-values" || type == "text/plain") {
-      api::TableParameters parameters(request.params.begin(), request.params.end());
-      document = api::fit_table_text(request.body, parameters, limits_);
+      reject_query_parameters_but_format(request);
+      send_fit(response, api::fit_json_outcome(request.body, limits_), representation);
+    } else if (is_table_media_type(type)) {
+      send_fit(response, api::fit_table_outcome(request.body, table_parameters(request), limits_), representation);
+    } else if (type == "application/fits") {  // RFC 4047
+      send_fit(response, api::fit_fits_outcome(request.body, table_parameters(request), limits_), representation);
     } else {
       throw ProblemError(api::unsupported_media_type(
-          "POST /v1/fit takes a JSON request (Content-Type: application/json) or a table (text/csv, "
-          "text/tab-separated-values or text/plain with x_unit and y_unit query parameters); got '" +
-              (type.empty() ? std::string("no Content-Type") : type) + "'",
-          {"application/json", "text/csv", "text/tab-separated-values", "text/plain"}));
+          "POST /v1/fit takes a JSON request (Content-Type: application/json), a table (text/csv, "
+          "text/tab-separated-values or text/plain with x_unit and y_unit query parameters) or a FITS "
+          "file (application/fits); got '" + (type.empty() ? std::string("no Content-Type") : type) + "'",
+          {"application/json", "text/csv", "text/tab-separated-values", "text/plain", "application/fits"}));
     }
-    count_fit(document);
-    send_json(response, document);
   }
 
   void light(const httplib::Request& request, httplib::Response& response) {
@@ -334,6 +335,51 @@ class Routes {
     const auto& allowed = config_.cors_origins;
     if (std::find(allowed.begin(), allowed.end(), origin) == allowed.end()) return std::nullopt;
     return origin;
+  }
+
+  // ---- POST /v1/fit: request bodies and representations
+
+  static bool is_table_media_type(const std::string& type) {
+    return type == "text/csv" || type == "text/tab-separated-values" || type == "text/plain";
+  }
+
+  // ?format=json|svg|csv, given at most once.
+  static std::optional<std::string> format_parameter(const httplib::Request& request) {
+    if (request.get_param_value_count("format") > 1) {
+      throw ProblemError(api::invalid_parameter("format", "is given more than once", {"json", "svg", "csv"}));
+    }
+    if (!request.has_param("format")) return std::nullopt;
+    return request.get_param_value("format");
+  }
+
+  // A JSON body carries its settings itself: the only query parameter it takes is format.
+  static void reject_query_parameters_but_format(const httplib::Request& request) {
+    for (const auto& [name, value] : request.params) {
+      if (name == "format") continue;
+      throw ProblemError(api::invalid_parameter(name,
+                                                "query parameters apply to tables only; put the settings in the "
+                                                "JSON request's model and options (format is the one parameter a "
+                                                "JSON request takes)"));
+    }
+  }
+
+  // The table's settings: every query parameter but format, which chooses the representation.
+  static api::TableParameters table_parameters(const httplib::Request& request) {
+    api::TableParameters parameters;
+    for (const auto& [name, value] : request.params) {
+      if (name != "format") parameters.emplace_back(name, value);
+    }
+    return parameters;
+  }
+
+  void send_fit(httplib::Response& response, const api::FitOutcome& outcome, api::FitRepresentation representation) {
+    count_fit(outcome.response);
+    if (representation == api::FitRepresentation::kJson) {
+      send_json(response, outcome.response);
+      return;
+    }
+    response.status = 200;
+    response.set_content(api::represent(outcome, representation), api::media_type_of(representation));
   }
 
   static void require_json(const httplib::Request& request, const std::string& path) {

@@ -4,6 +4,7 @@
 #include <cmath>
 
 #include "api/fit_response.h"
+#include "api/fits_reader.h"
 #include "api/json_reader.h"
 #include "api/problem.h"
 #include "science/input_error.h"
@@ -96,7 +97,8 @@ bool spectrum_only_parameter(const std::string& name) {
   return false;
 }
 
-TableSettings table_settings(const TableParameters& parameters, bool photometry) {
+// require_units: a table's units come only from its parameters (a FITS file has its own).
+TableSettings table_settings(const TableParameters& parameters, bool photometry, bool require_units) {
   TableSettings settings;
   nlohmann::json& options = settings.extra["options"];
   options = nlohmann::json::object();
@@ -121,8 +123,8 @@ TableSettings table_settings(const TableParameters& parameters, bool photometry)
     else if (name == "systematic_error") options["systematic_error"] = parameter_number(name, value);
     else throw ProblemError(invalid_parameter(name, "is not a known parameter", table_parameter_names()));
   }
-  if (!photometry && settings.table.x_unit.empty()) throw ProblemError(invalid_parameter("x_unit", "is required for a table", documented_spectral_axis_units()));
-  if (!photometry && settings.table.y_unit.empty()) throw ProblemError(invalid_parameter("y_unit", "is required for a table", documented_flux_density_units()));
+  if (require_units && !photometry && settings.table.x_unit.empty()) throw ProblemError(invalid_parameter("x_unit", "is required for a table", documented_spectral_axis_units()));
+  if (require_units && !photometry && settings.table.y_unit.empty()) throw ProblemError(invalid_parameter("y_unit", "is required for a table", documented_flux_density_units()));
   if (options.contains("loss") && !options["loss"].contains("kind")) {
     throw ProblemError(invalid_parameter("loss_scale", "needs loss (huber or cauchy)"));
   }
@@ -191,14 +193,16 @@ nlohmann::ordered_json fit_document(const nlohmann::json& document, const Servic
   return fit(parse_fit_request(document), limits);
 }
 
-nlohmann::ordered_json fit_table_text(std::string_view text, const TableRequestOptions& options,
-                                      const nlohmann::json& extra_request_members, const ServiceLimits& limits) {
+namespace {
+
+FitOutcome spectrum_table_outcome(std::string_view text, const TableRequestOptions& options,
+                                  const nlohmann::json& extra_request_members, const ServiceLimits& limits) {
   const Table table = read_table(text);
   FitRequest request;
   request.spectrum = table_to_spectrum(table, options);
   try {
     if (!extra_request_members.empty()) apply_request_members(extra_request_members.dump(), request);
-    return fit(std::move(request), limits);
+    return fit_outcome(std::move(request), limits);
   } catch (ProblemError& e) {
     Problem& problem = e.problem();
     if (problem.pointer) problem.line = table_line_of(*problem.pointer, table);
@@ -206,17 +210,24 @@ nlohmann::ordered_json fit_table_text(std::string_view text, const TableRequestO
   }
 }
 
+}  // namespace
+
+nlohmann::ordered_json fit_table_text(std::string_view text, const TableRequestOptions& options,
+                                      const nlohmann::json& extra_request_members, const ServiceLimits& limits) {
+  return spectrum_table_outcome(text, options, extra_request_members, limits).response;
+}
+
 namespace {
 
 // A photometry table becomes the request document {"photometry": [...], "model", "options"}, so it is
 // checked exactly as JSON is; problems with a measurement carry its line.
-nlohmann::ordered_json fit_photometry_table(std::string_view text, const nlohmann::json& extra_request_members,
-                                            const ServiceLimits& limits) {
+FitOutcome photometry_table_outcome(std::string_view text, const nlohmann::json& extra_request_members,
+                                   const ServiceLimits& limits) {
   const PhotometryTable table = read_photometry_table(text);
   nlohmann::json document = extra_request_members;
   document["photometry"] = table.measurements;
   try {
-    return fit(parse_fit_request(document), limits);
+    return fit_outcome(parse_fit_request(document), limits);
   } catch (ProblemError& e) {
     Problem& problem = e.problem();
     const std::string prefix = "/photometry/";
@@ -234,13 +245,13 @@ nlohmann::ordered_json fit_photometry_table(std::string_view text, const nlohman
 
 }  // namespace
 
-nlohmann::ordered_json fit_table_text(std::string_view text, const TableParameters& parameters,
-                                      const ServiceLimits& limits) {
-  const bool photometry = is_photometry_table(text);
-  const TableSettings settings = table_settings(parameters, photometry);
+namespace {
+
+// Problems with a member that a named parameter set name the parameter instead of the pointer.
+template <class Fit>
+FitOutcome naming_parameters(Fit&& fit) {
   try {
-    return photometry ? fit_photometry_table(text, settings.extra, limits)
-                      : fit_table_text(text, settings.table, settings.extra, limits);
+    return fit();
   } catch (ProblemError& e) {
     Problem& problem = e.problem();
     if (problem.pointer && !problem.line) {
@@ -251,6 +262,63 @@ nlohmann::ordered_json fit_table_text(std::string_view text, const TableParamete
     }
     throw;
   }
+}
+
+}  // namespace
+
+FitOutcome fit_table_outcome(std::string_view text, const TableParameters& parameters, const ServiceLimits& limits) {
+  const bool photometry = is_photometry_table(text);
+  const TableSettings settings = table_settings(parameters, photometry, true);
+  return naming_parameters([&] {
+    return photometry ? photometry_table_outcome(text, settings.extra, limits)
+                      : spectrum_table_outcome(text, settings.table, settings.extra, limits);
+  });
+}
+
+nlohmann::ordered_json fit_table_text(std::string_view text, const TableParameters& parameters,
+                                      const ServiceLimits& limits) {
+  return fit_table_outcome(text, parameters, limits).response;
+}
+
+FitOutcome fit_fits_outcome(std::string_view bytes, const TableParameters& parameters, const ServiceLimits& limits) {
+  FitsOptions fits;
+  TableParameters rest;
+  for (const auto& [name, value] : parameters) {
+    if (name == "hdu") fits.hdu = value;
+    else if (name == "x_column") fits.x_column = value;
+    else if (name == "y_column") fits.y_column = value;
+    else if (name == "error_column") fits.error_column = value;
+    else if (name == "error_hdu") fits.error_hdu = value;
+    else if (name == "x_unit") fits.x_unit = value;
+    else if (name == "y_unit") fits.y_unit = value;
+    else rest.emplace_back(name, value);
+  }
+  const FitsContent content = read_fits(bytes, fits);
+  const TableSettings settings = table_settings(rest, content.photometry.has_value(), false);
+  FitOutcome outcome = naming_parameters([&] {
+    if (content.photometry) {
+      nlohmann::json document = settings.extra;
+      document["photometry"] = *content.photometry;
+      return fit_outcome(parse_fit_request(document), limits);
+    }
+    FitRequest request;
+    request.spectrum = *content.spectrum;
+    apply_request_members(settings.extra.dump(), request);
+    return fit_outcome(std::move(request), limits);
+  });
+  outcome.response["input"]["fits"] = content.notes;
+  return outcome;
+}
+
+nlohmann::ordered_json fit_fits(std::string_view bytes, const TableParameters& parameters, const ServiceLimits& limits) {
+  return fit_fits_outcome(bytes, parameters, limits).response;
+}
+
+const std::vector<std::string>& fits_parameter_names() {
+  static const std::vector<std::string> kNames = {
+      "hdu", "x_column", "y_column", "error_column", "error_hdu", "x_unit", "y_unit", "model", "loss", "loss_scale",
+      "exclude", "distance", "temperature_min", "temperature_max", "time_budget_seconds", "systematic_error"};
+  return kNames;
 }
 
 const std::vector<std::string>& table_parameter_names() {

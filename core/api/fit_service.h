@@ -74,6 +74,16 @@ using TableParameters = std::vector<std::pair<std::string, std::string>>;
 nlohmann::ordered_json fit_table_text(std::string_view text, const TableParameters& parameters,
                                       const ServiceLimits& limits = {});
 const std::vector<std::string>& table_parameter_names();
+FitOutcome fit_table_outcome(std::string_view text, const TableParameters& parameters, const ServiceLimits& limits = {});
+
+// A FITS file (fits_reader.h) with its settings as named parameters: those of FitsOptions (hdu,
+// x_column, y_column, error_column, error_hdu, x_unit, y_unit) and the table parameters that are not
+// about columns and units (model, loss, loss_scale, exclude, distance, temperature_min,
+// temperature_max, time_budget_seconds, systematic_error). The response's input gains "fits": the
+// reader's notes on what was read and converted.
+nlohmann::ordered_json fit_fits(std::string_view bytes, const TableParameters& parameters, const ServiceLimits& limits = {});
+FitOutcome fit_fits_outcome(std::string_view bytes, const TableParameters& parameters, const ServiceLimits& limits = {});
+const std::vector<std::string>& fits_parameter_names();
 
 // One line of a batch (NDJSON): {"index", "id" (if given), "status", "response" | "problem"}.
 // Never throws for bad input: a bad line is answered with its problem.

@@ -62,6 +62,11 @@ Problem unsupported_media_type(std::string detail, std::vector<std::string> acce
           std::move(detail), std::nullopt, std::nullopt, std::nullopt, std::move(accepted)};
 }
 
+Problem not_acceptable(std::string detail, std::vector<std::string> accepted) {
+  return {"/problems/not-acceptable", "The request asks for a representation this endpoint does not give", 406,
+          std::move(detail), std::nullopt, std::nullopt, std::nullopt, std::move(accepted)};
+}
+
 Problem not_found(std::string detail) {
   return {"/problems/not-found", "There is nothing at this path", 404, std::move(detail), std::nullopt,
           std::nullopt, std::nullopt, {}};

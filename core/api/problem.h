@@ -51,6 +51,8 @@ Problem payload_too_large(std::string detail);
 Problem length_required();
 Problem service_unavailable(std::string detail);
 Problem unsupported_media_type(std::string detail, std::vector<std::string> accepted);
+// 406: the Accept header allows none of the representations; `accepted` lists them.
+Problem not_acceptable(std::string detail, std::vector<std::string> accepted);
 Problem not_found(std::string detail);
 Problem method_not_allowed(std::string detail, std::vector<std::string> allowed);
 Problem unauthorized();
