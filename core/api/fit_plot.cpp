@@ -4,6 +4,7 @@
 #include <array>
 #include <charconv>
 #include <cmath>
+#include <functional>
 #include <limits>
 #include <optional>
 #include <string>
@@ -308,6 +309,22 @@ struct Plot {
   double residual_floor = 3.0;  // smallest half-height of the residual panel
   bool has_errors = true;
 };
+
+// The fitted curve and its one-sigma band on kCurvePoints between lo and hi (log-spaced on a log
+// axis), in the caller's unit (SI / to_si).
+void sample_curve(Curve& curve, double lo, double hi, bool log_axis, const std::function<ModelPoint(double)>& model_at,
+                  double to_si) {
+  for (int k = 0; k < kCurvePoints; ++k) {
+    const double t = static_cast<double>(k) / (kCurvePoints - 1);
+    const double x = log_axis ? lo * std::pow(hi / lo, t) : lo + t * (hi - lo);
+    const ModelPoint m = model_at(x);
+    const double value = m.value / to_si;
+    curve.x.push_back(x);
+    curve.value.push_back(value);
+    curve.lower.push_back(value * std::exp(-m.log_sigma));
+    curve.upper.push_back(value * std::exp(m.log_sigma));
+  }
+}
 
 // ---- drawing -----------------------------------------------------------------------------------
 
@@ -919,18 +936,7 @@ Plot spectrum_plot(const FitOutcome& outcome) {
   plot.y_log = all_positive && spans_decades(ys);
 
   // The model on a fine grid over the data range (log-spaced on a log axis).
-  if (!xs.empty()) {
-    for (int k = 0; k < kCurvePoints; ++k) {
-      const double t = static_cast<double>(k) / (kCurvePoints - 1);
-      const double xv = plot.x_log ? xs.lo * std::pow(xs.hi / xs.lo, t) : xs.lo + t * (xs.hi - xs.lo);
-      const ModelPoint m = model_at(xv);
-      const double value = m.value / unit.to_si;
-      plot.curve.x.push_back(xv);
-      plot.curve.value.push_back(value);
-      plot.curve.lower.push_back(value * std::exp(-m.log_sigma));
-      plot.curve.upper.push_back(value * std::exp(m.log_sigma));
-    }
-  }
+  if (!xs.empty()) sample_curve(plot.curve, xs.lo, xs.hi, plot.x_log, model_at, unit.to_si);
 
   const Headline head = headline(outcome.response, "Planck fit");
   plot.title = head.title;
@@ -997,16 +1003,11 @@ Plot photometry_plot(const FitOutcome& outcome) {
     xs.add(p.x_hi, true);
   }
   if (!xs.empty()) {
-    const double lo = xs.lo / 1.15, hi = xs.hi * 1.15;  // the curve reaches a little beyond the bands
-    for (int k = 0; k < kCurvePoints; ++k) {
-      const double lambda = lo * std::pow(hi / lo, static_cast<double>(k) / (kCurvePoints - 1));
-      const ModelPoint mp = fitted_curve(outcome.fit, Convention::kEnergyPerFrequency, constants::kSpeedOfLight / (lambda * kMicrometre));
-      const double value = mp.value / unit.to_si;
-      plot.curve.x.push_back(lambda);
-      plot.curve.value.push_back(value);
-      plot.curve.lower.push_back(value * std::exp(-mp.log_sigma));
-      plot.curve.upper.push_back(value * std::exp(mp.log_sigma));
-    }
+    const auto model_at = [&](double lambda_um) {
+      return fitted_curve(outcome.fit, Convention::kEnergyPerFrequency, constants::kSpeedOfLight / (lambda_um * kMicrometre));
+    };
+    // The curve reaches a little beyond the bands.
+    sample_curve(plot.curve, xs.lo / 1.15, xs.hi * 1.15, true, model_at, unit.to_si);
   }
 
   const Headline head = headline(outcome.response, "Planck fit");
