@@ -21,6 +21,7 @@ FROM debian:12-slim AS runtime
 #   libbrotli1              libbrotlicommon/dec/enc.so.1 (linked by cpp-httplib)
 #   zlib1g                  libz.so.1 (linked by cpp-httplib)
 #   libsimdjson14           libsimdjson.so.14 (request parsing)
+#   libcfitsio10            libcfitsio.so.10 (FITS request bodies)
 #   libgoogle-glog0v6       libglog.so.1 (Ceres Solver; libceres is linked statically)
 #   libgflags2.2            libgflags.so.2.2 (glog)
 #   libunwind8              libunwind.so.8 (glog)
@@ -37,7 +38,7 @@ FROM debian:12-slim AS runtime
 # something new: the `--help` run below fails the image build if a library is missing.
 RUN apt-get update \
  && DEBIAN_FRONTEND=noninteractive apt-get install -y --no-install-recommends \
-      libcpp-httplib0.11 libssl3 libbrotli1 zlib1g libsimdjson14 \
+      libcpp-httplib0.11 libssl3 libbrotli1 zlib1g libsimdjson14 libcfitsio10 \
       libgoogle-glog0v6 libgflags2.2 libunwind8 liblzma5 \
       libspqr2 libcholmod3 libcxsparse3 libsuitesparseconfig5 \
       libamd2 libcamd2 libccolamd2 libcolamd2 libmetis5 \
