@@ -363,6 +363,16 @@ void line(XmlWriter& out, double x1, double y1, double x2, double y2) {
   out.open("line").attribute("x1", x1).attribute("y1", y1).attribute("x2", x2).attribute("y2", y2).close();
 }
 
+// The request's excluded ranges as shaded rectangles across a panel.
+void shade_excluded_ranges(XmlWriter& out, const Plot& plot, const Scale& x, const Box& panel, const char* css_class) {
+  for (const auto& [lo, hi] : plot.excluded_ranges) {
+    const double x0 = std::clamp(x.map(lo), panel.left - 1, panel.right + 1);
+    const double x1 = std::clamp(x.map(hi), panel.left - 1, panel.right + 1);
+    out.open("rect").attribute("class", css_class).attribute("x", std::min(x0, x1)).attribute("y", panel.top);
+    out.attribute("width", std::abs(x1 - x0)).attribute("height", panel.height()).attribute("fill", kExcludedRange).close();
+  }
+}
+
 void draw_x_axis(XmlWriter& out, const Scale& x, const AxisTitle& label) {
   const Ticks ticks = ticks_for(x, true);
   out.open("g").attribute("class", "axis x").attribute("data-scale", x.log ? "log" : "linear");
@@ -606,12 +616,7 @@ std::string render(const Plot& plot) {
 
   // ---- main panel
   out.open("g").attribute("class", "panel main").attribute("clip-path", "url(#clip-main)");
-  for (const auto& [lo, hi] : plot.excluded_ranges) {
-    const double x0 = std::clamp(x.map(lo), kMain.left - 1, kMain.right + 1);
-    const double x1 = std::clamp(x.map(hi), kMain.left - 1, kMain.right + 1);
-    out.open("rect").attribute("class", "excluded-range").attribute("x", std::min(x0, x1)).attribute("y", kMain.top);
-    out.attribute("width", std::abs(x1 - x0)).attribute("height", kMain.height()).attribute("fill", kExcludedRange).close();
-  }
+  shade_excluded_ranges(out, plot, x, kMain, "excluded-range");
   std::vector<std::array<double, 2>> model_line, band_upper, band_lower;
   for (std::size_t i = 0; i < plot.curve.x.size(); ++i) {
     const double px = x.map(plot.curve.x[i]);
@@ -732,12 +737,7 @@ std::string render(const Plot& plot) {
 
   // ---- residual panel
   out.open("g").attribute("class", "panel residuals").attribute("clip-path", "url(#clip-residuals)");
-  for (const auto& [lo, hi] : plot.excluded_ranges) {
-    const double x0 = std::clamp(x.map(lo), kResiduals.left - 1, kResiduals.right + 1);
-    const double x1 = std::clamp(x.map(hi), kResiduals.left - 1, kResiduals.right + 1);
-    out.open("rect").attribute("class", "excluded-range-residuals").attribute("x", std::min(x0, x1)).attribute("y", kResiduals.top);
-    out.attribute("width", std::abs(x1 - x0)).attribute("height", kResiduals.height()).attribute("fill", kExcludedRange).close();
-  }
+  shade_excluded_ranges(out, plot, x, kResiduals, "excluded-range-residuals");
   out.open("line").attribute("class", "zero").attribute("x1", kResiduals.left).attribute("y1", r.map(0.0));
   out.attribute("x2", kResiduals.right).attribute("y2", r.map(0.0)).attribute("stroke", kModel).attribute("stroke-width", 1.2).close();
   PathData beyond, beyond_excluded, limits;

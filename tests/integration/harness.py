@@ -792,3 +792,15 @@ def check_served_paths(checks, server, method, paths):
     missing = [p for p in paths if method not in (documented.get(p) or {})]
     checks.check(f"GET /openapi.yaml documents {method.upper()} " + " and ".join(paths), served is not None and not missing,
                  describe(r, 120) if served is None else f"missing {missing}")
+
+
+def answer_json(checks, schema, label, r, path, method):
+    """200 application/json, parsed, and valid against the schema of the path; returns the document."""
+    ok = is_response(r) and r.status_code == 200 and media_type(r) == "application/json"
+    checks.check(f"{label}: 200 application/json", ok, "" if ok else describe(r))
+    doc = json_of(r) if ok else None
+    if ok and doc is None:
+        checks.check(f"{label}: body parses as JSON", False, describe(r))
+    if doc is not None:
+        schema.check(checks, f"{label}: response matches the OpenAPI schema", doc, path, method, 200, "application/json")
+    return doc

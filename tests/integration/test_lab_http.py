@@ -44,16 +44,7 @@ def load(name):
 
 
 def answer(label, r, path):
-    """200 application/json, parsed, and valid against the schema of the path; returns the document."""
-    ok = is_response(r) and r.status_code == 200 and media_type(r) == "application/json"
-    checks.check(f"{label}: 200 application/json", ok, "" if ok else describe(r))
-    doc = json_of(r) if ok else None
-    if ok and doc is None:
-        checks.check(f"{label}: body parses as JSON", False, describe(r))
-    if doc is not None:
-        schema.check(checks, f"{label}: response matches the OpenAPI schema", doc, path, "post", 200,
-                     "application/json")
-    return doc
+    return harness.answer_json(checks, schema, label, r, path, "post")
 
 
 def same(label, a, b):
