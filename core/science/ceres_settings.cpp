@@ -1,5 +1,9 @@
 #include "science/ceres_settings.h"
 
+#include <Eigen/Dense>
+
+#include <cmath>
+
 namespace planckton::ceres_settings {
 
 ceres::Solver::Options solver_options(int max_iterations, double time_budget_seconds) {
@@ -32,6 +36,31 @@ std::string termination_name(const ceres::Solver::Summary& summary) {
       return summary.message.find("time") != std::string::npos ? "time_limit" : "iteration_limit";
     default: return "failed";
   }
+}
+
+bool covariance(ceres::Problem& problem, const std::vector<double*>& blocks, std::vector<double>& out) {
+  if (blocks.empty()) return false;
+  ceres::Problem::EvaluateOptions evaluate;
+  evaluate.parameter_blocks = blocks;
+  ceres::CRSMatrix jacobian;
+  if (!problem.Evaluate(evaluate, nullptr, nullptr, nullptr, &jacobian)) return false;
+  const Eigen::Index n = jacobian.num_cols;
+  Eigen::MatrixXd information = Eigen::MatrixXd::Zero(n, n);
+  for (int row = 0; row < jacobian.num_rows; ++row) {
+    for (int a = jacobian.rows[row]; a < jacobian.rows[row + 1]; ++a) {
+      for (int b = jacobian.rows[row]; b < jacobian.rows[row + 1]; ++b) {
+        information(jacobian.cols[a], jacobian.cols[b]) += jacobian.values[a] * jacobian.values[b];
+      }
+    }
+  }
+  const Eigen::SelfAdjointEigenSolver<Eigen::MatrixXd> eigen(information);
+  const Eigen::VectorXd values = eigen.eigenvalues();
+  if (!std::isfinite(values.maxCoeff()) || !(values.minCoeff() > 1e-14 * values.maxCoeff())) return false;
+  const Eigen::MatrixXd inverse = eigen.eigenvectors() * values.cwiseInverse().asDiagonal() * eigen.eigenvectors().transpose();
+  if (!inverse.allFinite()) return false;
+  out.resize(static_cast<std::size_t>(n * n));
+  Eigen::Map<Eigen::Matrix<double, Eigen::Dynamic, Eigen::Dynamic, Eigen::RowMajor>>(out.data(), n, n) = inverse;
+  return true;
 }
 
 }  // namespace planckton::ceres_settings

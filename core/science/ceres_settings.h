@@ -1,10 +1,12 @@
-// The Ceres Solver settings that planckton's fits share, so that every fit stops by the same rules.
+// The Ceres Solver settings that planckton's fits share, so that every fit stops by the same rules
+// and reports its covariance the same way.
 #pragma once
 
 #include <ceres/ceres.h>
 
 #include <memory>
 #include <string>
+#include <vector>
 
 #include "science/planck_fit.h"
 
@@ -23,5 +25,13 @@ std::unique_ptr<ceres::LossFunction> make_loss(RobustLoss loss, double scale);
 
 // "converged", "time_limit", "iteration_limit" or "failed".
 std::string termination_name(const ceres::Solver::Summary& summary);
+
+// (J^T J)^-1 over the given parameter blocks at the current point (e.g. Press et al., Numerical
+// Recipes, 3rd ed., 15.5), from the robustified Jacobian ceres::Problem::Evaluate gives (with a
+// loss, its correction as in ceres::Covariance), row-major over the blocks' parameters in order.
+// Singular, as ceres::Covariance's DENSE_SVD judges it, when the reciprocal condition number of
+// J^T J is below 1e-14; computed here rather than by ceres::Covariance so that a singular matrix is
+// an answer (false), not a line on the service's log.
+bool covariance(ceres::Problem& problem, const std::vector<double*>& blocks, std::vector<double>& out);
 
 }  // namespace planckton::ceres_settings

@@ -2,9 +2,12 @@
 
 #include <ceres/ceres.h>
 
+#include <Eigen/Dense>
+
 #include <algorithm>
 #include <boost/math/special_functions/gamma.hpp>
 #include <cmath>
+#include <cstdio>
 #include <memory>
 #include <numeric>
 #include <stdexcept>
@@ -34,31 +37,45 @@ constexpr double kDegenerateCorrelation = 0.95;
 class ItemModel {
  public:
   ItemModel(const ModelData& data, const ModelSpec& spec, const std::vector<ParameterInfo>& parameters)
-      : data_(data), nodes_(spec, parameters), node_derivative_(parameters.size()) {
-    terms_.reserve(data.nodes.size());
-    for (const ModelData::Node& node : data.nodes) terms_.push_back(node_term(spec, data.convention, node.frequency_hz));
+      : data_(data), nodes_(spec, parameters, node_terms(spec, data.convention, node_frequencies(data))),
+        weight_(static_cast<Eigen::Index>(data.nodes.size())), flux_(static_cast<Eigen::Index>(data.items.size())),
+        flux_derivatives_(static_cast<Eigen::Index>(data.items.size()), static_cast<Eigen::Index>(parameters.size())) {
+    for (std::size_t k = 0; k < data.nodes.size(); ++k) weight_[static_cast<Eigen::Index>(k)] = data.nodes[k].weight;
   }
 
   const ModelData& data() const { return data_; }
   const NodeModel& nodes() const { return nodes_; }
   std::size_t parameter_count() const { return nodes_.parameter_count(); }
 
-  // F_j of item j (in the nodes' convention), and d F_j / d u into `derivative` when given.
-  double item_value(const double* u, std::size_t j, double* derivative, int only_component = -1) const {
-    const ModelData::Item& item = data_.items[j];
-    if (derivative != nullptr) std::fill(derivative, derivative + parameter_count(), 0.0);
-    double value = 0.0;
-    for (std::size_t k = item.first_node; k < item.first_node + item.node_count; ++k) {
-      const double w = data_.nodes[k].weight;
-      if (derivative == nullptr) {
-        value += w * nodes_.evaluate(u, terms_[k], nullptr, only_component);
+  // F_j of the items [begin, end) into flux() (in the nodes' convention) and, with derivatives,
+  // d F_j / d u into the rows of flux_derivatives(); indices are the items'.
+  void evaluate(const double* u, std::size_t begin, std::size_t end, bool with_derivatives, int only_component = -1) const {
+    const Eigen::Index first = static_cast<Eigen::Index>(data_.items[begin].first_node);
+    const ModelData::Item& last = data_.items[end - 1];
+    const Eigen::Index count = static_cast<Eigen::Index>(last.first_node + last.node_count) - first;
+    nodes_.evaluate(u, first, count, with_derivatives, only_component);
+    for (std::size_t j = begin; j < end; ++j) {
+      const ModelData::Item& item = data_.items[j];
+      const Eigen::Index row = static_cast<Eigen::Index>(j);
+      const Eigen::Index k = static_cast<Eigen::Index>(item.first_node) - first;
+      const Eigen::Index n = static_cast<Eigen::Index>(item.node_count);
+      if (!data_.bands) {  // a spectrum point is the model at its frequency
+        flux_[row] = nodes_.value()[k];
+        if (with_derivatives) flux_derivatives_.row(row) = nodes_.derivatives().row(k);
         continue;
       }
-      std::fill(node_derivative_.begin(), node_derivative_.end(), 0.0);
-      value += w * nodes_.evaluate(u, terms_[k], node_derivative_.data(), only_component);
-      for (std::size_t p = 0; p < parameter_count(); ++p) derivative[p] += w * node_derivative_[p];
+      const auto w = weight_.segment(static_cast<Eigen::Index>(item.first_node), n);
+      flux_[row] = (w * nodes_.value().segment(k, n)).sum();
+      if (with_derivatives) flux_derivatives_.row(row) = (nodes_.derivatives().middleRows(k, n).colwise() * w).colwise().sum();
     }
-    return value;
+  }
+  const Eigen::ArrayXd& flux() const { return flux_; }
+  const Eigen::ArrayXXd& flux_derivatives() const { return flux_derivatives_; }
+
+  // F_j of every item (of one component when only_component >= 0).
+  Eigen::ArrayXd item_values(const std::vector<double>& u, int only_component = -1) const {
+    evaluate(u.data(), 0, data_.items.size(), false, only_component);
+    return flux_;
   }
 
   // The residual of item j and d r / d F.
@@ -93,10 +110,18 @@ class ItemModel {
   }
 
  private:
+  static std::vector<double> node_frequencies(const ModelData& data) {
+    std::vector<double> nu;
+    nu.reserve(data.nodes.size());
+    for (const ModelData::Node& node : data.nodes) nu.push_back(node.frequency_hz);
+    return nu;
+  }
+
   const ModelData& data_;
   NodeModel nodes_;
-  std::vector<NodeTerm> terms_;
-  mutable std::vector<double> node_derivative_;
+  Eigen::ArrayXd weight_;
+  mutable Eigen::ArrayXd flux_;
+  mutable Eigen::ArrayXXd flux_derivatives_;
 };
 
 // Residuals of the items [begin, end) for ceres::Problem, one parameter block of size 1 per
@@ -104,23 +129,25 @@ class ItemModel {
 class ItemResiduals final : public ceres::CostFunction {
  public:
   ItemResiduals(const ItemModel* model, const std::vector<double>* sigma, std::size_t begin, std::size_t end)
-      : model_(model), sigma_(sigma), begin_(begin), end_(end), u_(model->parameter_count()),
-        derivative_(model->parameter_count()) {
+      : model_(model), sigma_(sigma), begin_(begin), end_(end), u_(model->parameter_count()) {
     set_num_residuals(static_cast<int>(end - begin));
     for (std::size_t p = 0; p < model->parameter_count(); ++p) mutable_parameter_block_sizes()->push_back(1);
   }
 
+  // Always with the derivatives, so that the Jacobian of an accepted trial point comes from the cache.
   bool Evaluate(double const* const* parameters, double* residuals, double** jacobians) const override {
     for (std::size_t p = 0; p < u_.size(); ++p) u_[p] = parameters[p][0];
+    model_->evaluate(u_.data(), begin_, end_, true);
     for (std::size_t j = begin_; j < end_; ++j) {
       const std::size_t row = j - begin_;
-      const double f = model_->item_value(u_.data(), j, jacobians != nullptr ? derivative_.data() : nullptr);
-      const ItemModel::Residual r = model_->residual(j, f, *sigma_);
+      const ItemModel::Residual r = model_->residual(j, model_->flux()[static_cast<Eigen::Index>(j)], *sigma_);
       residuals[row] = r.value;
       if (!std::isfinite(r.value)) return false;
       if (jacobians == nullptr) continue;
       for (std::size_t p = 0; p < u_.size(); ++p) {
-        if (jacobians[p] != nullptr) jacobians[p][row] = r.d_model * derivative_[p];
+        if (jacobians[p] != nullptr) {
+          jacobians[p][row] = r.d_model * model_->flux_derivatives()(static_cast<Eigen::Index>(j), static_cast<Eigen::Index>(p));
+        }
       }
     }
     return true;
@@ -130,7 +157,7 @@ class ItemResiduals final : public ceres::CostFunction {
   const ItemModel* model_;
   const std::vector<double>* sigma_;
   std::size_t begin_, end_;
-  mutable std::vector<double> u_, derivative_;
+  mutable std::vector<double> u_;
 };
 
 // A Gaussian prior as one more residual, (p(u) - mean) / sigma.
@@ -155,7 +182,7 @@ std::string control_field(const std::string& name) { return "model.parameters." 
 
 void check_inside_domain(const ParameterInfo& info, double value, const std::string& what) {
   if (!std::isfinite(value) || (info.logarithmic && !(value > 0.0))) {
-    throw InputError(control_field(info.name), what + " must be " + (info.logarithmic ? "positive and " : "") + "finite");
+    throw InputError(control_field(info.name) + "." + what, std::string("must be ") + (info.logarithmic ? "positive and " : "") + "finite");
   }
 }
 
@@ -244,7 +271,7 @@ std::vector<double> candidates(const FittedParameter& p, const ModelFitOptions& 
   std::vector<double> natural;
   switch (p.info.role) {
     case ParameterRole::kBeta: natural = {1.0, 1.5, 2.0}; break;
-    case ParameterRole::kColorExcess: natural = {0.0, 0.25, 0.5, 1.0, 2.0}; break;
+    case ParameterRole::kColorExcess: natural = {0.0, 0.5, 1.5}; break;
     case ParameterRole::kTurnoverFrequency: {
       const double lo = data.min_frequency_hz * (1.0 + spec.redshift), hi = data.max_frequency_hz * (1.0 + spec.redshift);
       natural = {lo, std::sqrt(lo * hi), hi, 3.0 * hi};
@@ -274,22 +301,49 @@ std::vector<std::size_t> start_items(const ModelData& data) {
   return picked;
 }
 
+// The data of some items only (with their nodes).
+ModelData subset(const ModelData& data, const std::vector<std::size_t>& items) {
+  ModelData sub;
+  sub.convention = data.convention;
+  sub.has_errors = data.has_errors;
+  sub.bands = data.bands;
+  sub.min_frequency_hz = data.min_frequency_hz;
+  sub.max_frequency_hz = data.max_frequency_hz;
+  sub.min_node_frequency_hz = data.min_node_frequency_hz;
+  sub.max_node_frequency_hz = data.max_node_frequency_hz;
+  for (std::size_t j : items) {
+    ModelData::Item item = data.items[j];
+    item.first_node = sub.nodes.size();
+    sub.nodes.insert(sub.nodes.end(), data.nodes.begin() + static_cast<std::ptrdiff_t>(data.items[j].first_node),
+                     data.nodes.begin() + static_cast<std::ptrdiff_t>(data.items[j].first_node + item.node_count));
+    sub.items.push_back(item);
+  }
+  return sub;
+}
+
 // The profiled cost over the scales, on the start items, in linearised space.
 class StartSearch {
  public:
-  StartSearch(const ItemModel& model, const ModelSpec& spec, const std::vector<FittedParameter>& parameters,
-              const ModelFitOptions& options)
-      : model_(model), spec_(spec), parameters_(parameters), options_(options), items_(start_items(model.data())),
-        layout_(model.nodes().layout()) {}
+  StartSearch(const ModelData& data, const ModelSpec& spec, const std::vector<ParameterInfo>& infos,
+              const std::vector<FittedParameter>& parameters, const ModelFitOptions& options)
+      : data_(subset(data, start_items(data))), model_(data_, spec, infos), spec_(spec), parameters_(parameters),
+        options_(options), layout_(model_.nodes().layout()), w2_(weights()), y_(observed()), kappa_(item_extinction()) {
+    // One temperature with E(B-V) and the scale both free: at each temperature, the two follow in
+    // closed form from a weighted linear fit of ln y = ln S + ln f - E kappa (the start needs no grid
+    // over E(B-V), and begins next to the optimum).
+    closed_form_extinction_ = layout_.components == 1 && layout_.color_excess >= 0 &&
+                              searched(parameter(layout_.color_excess), options_) &&
+                              searched(parameter(layout_.scale[0]), options_);
+  }
 
   // Fills u with the best start found.
   void run(std::vector<double>& u) {
     std::vector<std::vector<double>> extra;  // beta, turnover, colour excess candidates
     std::vector<int> extra_index;
     for (int index : {layout_.beta, layout_.turnover, layout_.color_excess}) {
-      if (index < 0) continue;
+      if (index < 0 || (index == layout_.color_excess && closed_form_extinction_)) continue;
       extra_index.push_back(index);
-      extra.push_back(candidates(parameters_[static_cast<std::size_t>(index)], options_, model_.data(), spec_));
+      extra.push_back(candidates(parameters_[static_cast<std::size_t>(index)], options_, data_, spec_));
     }
     double best_cost = HUGE_VAL;
     std::vector<double> best = u, trial = u;
@@ -316,8 +370,8 @@ class StartSearch {
     const FittedParameter& p = parameter(layout_.temperature[static_cast<std::size_t>(c)]);
     if (!searched(p, options_)) return {p.internal};
     const double z1 = 1.0 + spec_.redshift;
-    const auto [lo, hi] = two_parameter_fit::start_range(model_.data().min_node_frequency_hz * z1,
-                                                         model_.data().max_node_frequency_hz * z1, std::log(p.lower),
+    const auto [lo, hi] = two_parameter_fit::start_range(data_.min_node_frequency_hz * z1,
+                                                         data_.max_node_frequency_hz * z1, std::log(p.lower),
                                                          std::log(p.upper));
     std::vector<double> grid;
     const int nodes = std::max(2, static_cast<int>(std::ceil((hi - lo) / std::log(2.0))) + 1);
@@ -328,15 +382,14 @@ class StartSearch {
   // Per start item: the component's value at unit scale.
   Eigen::ArrayXd unit_values(std::vector<double> u, int c) const {
     u[static_cast<std::size_t>(layout_.scale[static_cast<std::size_t>(c)])] = 0.0;
-    Eigen::ArrayXd f(static_cast<Eigen::Index>(items_.size()));
-    for (std::size_t i = 0; i < items_.size(); ++i) f[static_cast<Eigen::Index>(i)] = model_.item_value(u.data(), items_[i], nullptr, c);
-    return f;
+    model_.evaluate(u.data(), 0, data_.items.size(), false, c);
+    return model_.flux();
   }
 
   double censored_cost(const Eigen::ArrayXd& model) const {
     double cost = 0.0;
-    for (std::size_t i = 0; i < items_.size(); ++i) {
-      const ModelData::Item& item = model_.data().items[items_[i]];
+    for (std::size_t i = 0; i < data_.items.size(); ++i) {
+      const ModelData::Item& item = data_.items[i];
       if (item.space != ModelData::Space::kUpperLimit) continue;
       const double r = censored((item.start_observed - model[static_cast<Eigen::Index>(i)]) / item.start_sigma).residual;
       cost += r * r;
@@ -344,24 +397,25 @@ class StartSearch {
     return cost;
   }
 
-  // Weighted sums over the detections: w^2 = 1 / sigma^2 of the linearised items.
+  // w^2 = 1 / sigma^2 of the linearised detections (0 for upper limits), and their values.
   Eigen::ArrayXd weights() const {
-    Eigen::ArrayXd w2(static_cast<Eigen::Index>(items_.size()));
-    for (std::size_t i = 0; i < items_.size(); ++i) {
-      const ModelData::Item& item = model_.data().items[items_[i]];
+    Eigen::ArrayXd w2(static_cast<Eigen::Index>(data_.items.size()));
+    for (std::size_t i = 0; i < data_.items.size(); ++i) {
+      const ModelData::Item& item = data_.items[i];
       w2[static_cast<Eigen::Index>(i)] = item.space == ModelData::Space::kUpperLimit ? 0.0 : 1.0 / (item.start_sigma * item.start_sigma);
     }
     return w2;
   }
   Eigen::ArrayXd observed() const {
-    Eigen::ArrayXd y(static_cast<Eigen::Index>(items_.size()));
-    for (std::size_t i = 0; i < items_.size(); ++i) y[static_cast<Eigen::Index>(i)] = model_.data().items[items_[i]].start_observed;
+    Eigen::ArrayXd y(static_cast<Eigen::Index>(data_.items.size()));
+    for (std::size_t i = 0; i < data_.items.size(); ++i) y[static_cast<Eigen::Index>(i)] = data_.items[i].start_observed;
     return y;
   }
 
   // Best ln S for one component given its unit values (or the fixed / initial one), and the cost.
   std::pair<double, double> profile_scale(const Eigen::ArrayXd& f, int c, const std::vector<double>& u) const {
-    const Eigen::ArrayXd w2 = weights(), y = observed();
+    const Eigen::ArrayXd& w2 = w2_;
+    const Eigen::ArrayXd& y = y_;
     const FittedParameter& s = parameter(layout_.scale[static_cast<std::size_t>(c)]);
     double log_scale = u[static_cast<std::size_t>(layout_.scale[static_cast<std::size_t>(c)])];
     if (searched(s, options_)) {
@@ -380,6 +434,7 @@ class StartSearch {
     const auto profile = [&](double log_t) {
       std::vector<double> trial = u;
       trial[it] = log_t;
+      if (closed_form_extinction_) fit_extinction(trial);
       const auto [log_scale, cost] = profile_scale(unit_values(trial, 0), 0, trial);
       return two_parameter_fit::GridNode{log_t, log_scale, cost};
     };
@@ -387,8 +442,47 @@ class StartSearch {
     const two_parameter_fit::GridNode node =
         grid.size() == 1 ? profile(grid[0]) : two_parameter_fit::search_log_temperature(grid.front(), grid.back(), profile);
     u[it] = node.log_temperature;
+    if (closed_form_extinction_) fit_extinction(u);
     if (std::isfinite(node.cost)) u[is] = node.log_scale;
     return node.cost;
+  }
+
+  // E(B-V) at u's temperature by weighted linear least squares of ln(y / f) = ln S - E kappa over the
+  // positive detections (weights (y / sigma)^2, the inverse variance of ln y), within its bounds.
+  void fit_extinction(std::vector<double>& u) const {
+    const std::size_t ie = static_cast<std::size_t>(layout_.color_excess);
+    u[ie] = 0.0;
+    const Eigen::ArrayXd f = unit_values(u, 0);
+    double sw = 0.0, sk = 0.0, skk = 0.0, sz = 0.0, skz = 0.0;
+    for (Eigen::Index i = 0; i < f.size(); ++i) {
+      if (!(w2_[i] > 0.0) || !(y_[i] > 0.0) || !(f[i] > 0.0)) continue;
+      const double w = w2_[i] * y_[i] * y_[i], z = std::log(y_[i] / f[i]), k = kappa_[i];
+      sw += w;
+      sk += w * k;
+      skk += w * k * k;
+      sz += w * z;
+      skz += w * k * z;
+    }
+    const double det = sw * skk - sk * sk;
+    if (!(det > 0.0) || !std::isfinite(det)) return;
+    const FittedParameter& e = parameter(layout_.color_excess);
+    u[ie] = std::clamp(-(sw * skz - sk * sz) / det, e.lower, e.upper);
+  }
+
+  // Each start item's extinction exponent: its nodes' mean, weighted as the band integrates them.
+  Eigen::ArrayXd item_extinction() const {
+    const Eigen::ArrayXd& node = model_.nodes().terms().extinction;
+    Eigen::ArrayXd kappa(static_cast<Eigen::Index>(data_.items.size()));
+    for (std::size_t i = 0; i < data_.items.size(); ++i) {
+      const ModelData::Item& item = data_.items[i];
+      double sum = 0.0, weight = 0.0;
+      for (std::size_t k = item.first_node; k < item.first_node + item.node_count; ++k) {
+        sum += data_.nodes[k].weight * node[static_cast<Eigen::Index>(k)];
+        weight += data_.nodes[k].weight;
+      }
+      kappa[static_cast<Eigen::Index>(i)] = weight > 0.0 ? sum / weight : 0.0;
+    }
+    return kappa;
   }
 
   // Both scales in closed form for a pair of temperatures (2 x 2 normal equations); a negative
@@ -400,7 +494,8 @@ class StartSearch {
     std::vector<Eigen::ArrayXd> f1, f2;
     for (double t : grid_1) { std::vector<double> trial = u; trial[it1] = t; f1.push_back(unit_values(trial, 0)); }
     for (double t : grid_2) { std::vector<double> trial = u; trial[it2] = t; f2.push_back(unit_values(trial, 1)); }
-    const Eigen::ArrayXd w2 = weights(), y = observed();
+    const Eigen::ArrayXd& w2 = w2_;
+    const Eigen::ArrayXd& y = y_;
     const bool fixed_1 = !searched(parameter(static_cast<int>(is1)), options_);
     const bool fixed_2 = !searched(parameter(static_cast<int>(is2)), options_);
     double best = HUGE_VAL;
@@ -456,20 +551,23 @@ class StartSearch {
     return best;
   }
 
-  const ItemModel& model_;
+  ModelData data_;
+  ItemModel model_;
   const ModelSpec& spec_;
   const std::vector<FittedParameter>& parameters_;
   const ModelFitOptions& options_;
-  std::vector<std::size_t> items_;
   const Layout& layout_;
+  Eigen::ArrayXd w2_, y_, kappa_;
+  bool closed_form_extinction_ = false;
 };
 
 // ----- after the solve ----------------------------------------------------------------------
 
 double median_absolute_residual(const ItemModel& model, const std::vector<double>& u, const std::vector<double>& sigma) {
   std::vector<double> absolute;
+  const Eigen::ArrayXd f = model.item_values(u);
   for (std::size_t j = 0; j < model.data().items.size(); ++j) {
-    absolute.push_back(std::abs(model.residual(j, model.item_value(u.data(), j, nullptr), sigma).value));
+    absolute.push_back(std::abs(model.residual(j, f[static_cast<Eigen::Index>(j)], sigma).value));
   }
   const auto middle = absolute.begin() + static_cast<std::ptrdiff_t>(absolute.size() / 2);
   std::nth_element(absolute.begin(), middle, absolute.end());
@@ -512,19 +610,24 @@ void add_model_warnings(const ModelData& data, const ItemModel& model, const std
   }
   for (const FittedParameter& p : result.parameters) {
     if (p.at_bound) {
-      warn(result, "parameter_at_bound", p.info.name + " sits at a bound [" + format_number(p.lower) + ", " +
-                                             format_number(p.upper) + "]; its interval is not reliable");
+      // The Planck fits' code for a temperature, so that both paths warn alike.
+      warn(result, p.info.role == ParameterRole::kTemperature ? "temperature_at_bound" : "parameter_at_bound",
+           p.info.name + " sits at a bound [" + format_number(p.lower) + ", " + format_number(p.upper) +
+               "]; its interval is not reliable");
     }
   }
   if (result.covariance_available) {
-    const Eigen::MatrixXd rho = result.correlation();
-    for (Eigen::Index a = 0; a < rho.rows(); ++a) {
-      for (Eigen::Index b = a + 1; b < rho.cols(); ++b) {
-        if (std::abs(rho(a, b)) <= kDegenerateCorrelation) continue;
+    // Scales are normalisations: their correlation with the shape parameters is in the matrix, but
+    // only degeneracies among the shape parameters (temperatures, beta, turnover, E(B-V)) are warned of.
+    const auto shape = [&](std::size_t a) { return result.parameters[result.free[a]].info.role != ParameterRole::kScale; };
+    for (std::size_t a = 0; a < result.free.size(); ++a) {
+      for (std::size_t b = a + 1; b < result.free.size(); ++b) {
+        const double rho = result.correlation_at(a, b);
+        if (std::abs(rho) <= kDegenerateCorrelation || !shape(a) || !shape(b)) continue;
         const std::string& na = result.parameters[result.free[static_cast<std::size_t>(a)]].info.name;
         const std::string& nb = result.parameters[result.free[static_cast<std::size_t>(b)]].info.name;
         warn(result, "parameters_degenerate",
-             na + " and " + nb + " are strongly correlated (" + format_number(rho(a, b)) +
+             na + " and " + nb + " are strongly correlated (" + format_number(rho) +
                  "): the data constrain a combination of them better than either; their separate intervals are wide "
                  "and the Gaussian ones may mislead");
       }
@@ -556,14 +659,14 @@ void add_model_warnings(const ModelData& data, const ItemModel& model, const std
     if (layout.components == 2) {
       // A component that nowhere reaches the errors contributes nothing the data can see.
       double largest = 0.0;
+      const Eigen::ArrayXd component = model.item_values(u, c), total = model.item_values(u);
       for (std::size_t j = 0; j < data.items.size(); ++j) {
-        const double f = model.item_value(u.data(), j, nullptr, c);
-        largest = std::max(largest, std::abs(data.items[j].to_measured * f) / sigma[j] *
-                                        (data.items[j].space == ModelData::Space::kMagnitude ? 0.0 : 1.0));
-        if (data.items[j].space == ModelData::Space::kMagnitude) {
-          const double total = model.item_value(u.data(), j, nullptr);
-          largest = std::max(largest, kMagnitudesPerLnFlux * f / std::max(total, kSmallestFlux) / sigma[j]);
-        }
+        const double f = component[static_cast<Eigen::Index>(j)];
+        // In magnitudes the component's share of the flux, in flux units its value, against sigma.
+        const double seen = data.items[j].space == ModelData::Space::kMagnitude
+                                ? kMagnitudesPerLnFlux * f / std::max(total[static_cast<Eigen::Index>(j)], kSmallestFlux)
+                                : std::abs(data.items[j].to_measured * f);
+        largest = std::max(largest, seen / sigma[j]);
       }
       if (largest < 1.0) {
         warn(result, "component_negligible",
@@ -575,9 +678,9 @@ void add_model_warnings(const ModelData& data, const ItemModel& model, const std
   if (layout.beta >= 0 && !result.parameters[static_cast<std::size_t>(layout.beta)].fixed) {
     const double t = result.parameters[static_cast<std::size_t>(layout.temperature[0])].value;
     const double lowest_x = constants::kPlanckOverBoltzmann * data.min_frequency_hz * z1 / t;
-    if (lowest_x > 1.0) {
+    if (lowest_x > 1.5) {
       warn(result, "beta_unconstrained",
-           "no data on the Rayleigh-Jeans side (h nu / k T < 1), where beta shapes the spectrum: beta and the "
+           "no data towards the Rayleigh-Jeans side (h nu / k T < 1.5), where beta shapes the spectrum: beta and the "
            "temperature trade off; consider fixing beta or adding longer wavelengths");
     }
   }
@@ -624,12 +727,11 @@ void order_components(const Layout& layout, ModelFitResult& result) {
     std::vector<std::size_t> index_of(p.size(), 0);
     for (std::size_t i = 0; i < result.free.size(); ++i) index_of[result.free[i]] = i;
     const auto partner = [&](std::size_t q) { return q == t1 ? t2 : q == t2 ? t1 : q == s1 ? s2 : q == s2 ? s1 : q; };
-    Eigen::MatrixXd c = result.covariance;
-    for (std::size_t a = 0; a < result.free.size(); ++a) {
-      for (std::size_t b = 0; b < result.free.size(); ++b) {
-        const std::size_t pa = partner(result.free[a]), pb = partner(result.free[b]);
-        c(static_cast<Eigen::Index>(a), static_cast<Eigen::Index>(b)) =
-            result.covariance(static_cast<Eigen::Index>(index_of[pa]), static_cast<Eigen::Index>(index_of[pb]));
+    std::vector<double> c = result.covariance;
+    const std::size_t n = result.free.size();
+    for (std::size_t a = 0; a < n; ++a) {
+      for (std::size_t b = 0; b < n; ++b) {
+        c[a * n + b] = result.covariance_at(index_of[partner(result.free[a])], index_of[partner(result.free[b])]);
       }
     }
     result.covariance = c;
@@ -637,34 +739,6 @@ void order_components(const Layout& layout, ModelFitResult& result) {
   warn(result, "components_reordered",
        "the solve ended with the components' temperatures crossed; they are reported cooler first, each with "
        "the controls (bounds, priors, fixed values) it was fitted with");
-}
-
-// (J^T J)^-1 over the free parameters at the solution (e.g. Press et al., Numerical Recipes, 3rd
-// ed., 15.5), from the robustified Jacobian ceres::Problem::Evaluate gives (with a loss, its
-// correction as in ceres::Covariance). Singular, as ceres::Covariance's DENSE_SVD judges it, when the
-// reciprocal condition number of J^T J is below 1e-14; computed here rather than by ceres::Covariance
-// so that a singular matrix is an answer, not a line on the log.
-bool free_covariance(ceres::Problem& problem, const std::vector<double*>& blocks, const std::vector<std::size_t>& free,
-                     Eigen::MatrixXd& out) {
-  if (free.empty()) return false;
-  ceres::Problem::EvaluateOptions evaluate;
-  for (std::size_t p : free) evaluate.parameter_blocks.push_back(blocks[p]);
-  ceres::CRSMatrix jacobian;
-  if (!problem.Evaluate(evaluate, nullptr, nullptr, nullptr, &jacobian)) return false;
-  const Eigen::Index nf = static_cast<Eigen::Index>(free.size());
-  Eigen::MatrixXd information = Eigen::MatrixXd::Zero(nf, nf);
-  for (int row = 0; row < jacobian.num_rows; ++row) {
-    for (int a = jacobian.rows[row]; a < jacobian.rows[row + 1]; ++a) {
-      for (int b = jacobian.rows[row]; b < jacobian.rows[row + 1]; ++b) {
-        information(jacobian.cols[a], jacobian.cols[b]) += jacobian.values[a] * jacobian.values[b];
-      }
-    }
-  }
-  const Eigen::SelfAdjointEigenSolver<Eigen::MatrixXd> eigen(information);
-  const Eigen::VectorXd values = eigen.eigenvalues();
-  if (!std::isfinite(values.maxCoeff()) || !(values.minCoeff() > 1e-14 * values.maxCoeff())) return false;
-  out = eigen.eigenvectors() * values.cwiseInverse().asDiagonal() * eigen.eigenvectors().transpose();
-  return out.allFinite();
 }
 
 }  // namespace
@@ -745,18 +819,16 @@ std::vector<double> ModelFitResult::internal_values() const {
   return u;
 }
 
-Eigen::MatrixXd ModelFitResult::correlation() const {
-  if (!covariance_available) return {};
-  const Eigen::VectorXd sigma = covariance.diagonal().cwiseSqrt();
-  Eigen::MatrixXd rho = covariance.array() / (sigma * sigma.transpose()).array();
-  rho.diagonal().setOnes();
-  return rho;
+double ModelFitResult::correlation_at(std::size_t a, std::size_t b) const {
+  if (a == b) return 1.0;
+  return covariance_at(a, b) / std::sqrt(covariance_at(a, a) * covariance_at(b, b));
 }
 
 double model_value(const ModelSpec& spec, const std::vector<ParameterInfo>& parameters, const std::vector<double>& internal,
                    Convention convention, double frequency_hz, bool with_extinction, int only_component) {
-  const NodeModel model(spec, parameters);
-  return model.evaluate(internal.data(), node_term(spec, convention, frequency_hz, with_extinction), nullptr, only_component);
+  const NodeModel model(spec, parameters, node_terms(spec, convention, {frequency_hz}, with_extinction));
+  model.evaluate(internal.data(), 0, 1, false, only_component);
+  return model.value()[0];
 }
 
 // ----- the fit ------------------------------------------------------------------------------
@@ -791,10 +863,10 @@ ModelFitResult fit_model(const ModelData& data, const ModelSpec& spec, const Mod
 
   const ItemModel model(data, spec, infos);
   std::vector<double> u = result.internal_values();
-  StartSearch(model, spec, result.parameters, options).run(u);
+  StartSearch(data, spec, infos, result.parameters, options).run(u);
   for (std::size_t p = 0; p < u.size(); ++p) {
     const FittedParameter& fp = result.parameters[p];
-    u[p] = std::clamp(u[p], internal_bound(fp.info, fp.lower), internal_bound(fp.info, fp.upper));
+    if (!fp.fixed) u[p] = std::clamp(u[p], internal_bound(fp.info, fp.lower), internal_bound(fp.info, fp.upper));
   }
 
   std::vector<double> sigma;
@@ -835,14 +907,17 @@ ModelFitResult fit_model(const ModelData& data, const ModelSpec& spec, const Mod
   result.termination = ceres_settings::termination_name(summary);
   result.converged = result.termination == "converged";
   result.solver_message = summary.message;
-  result.iterations = static_cast<int>(summary.iterations.size()) - 1;
+  result.iterations = std::max(static_cast<int>(summary.iterations.size()) - 1, 0);
 
-  result.covariance_available = free_covariance(problem, blocks, result.free, result.covariance);
+  std::vector<double*> free_blocks;
+  for (std::size_t p : result.free) free_blocks.push_back(blocks[p]);
+  result.covariance_available = ceres_settings::covariance(problem, free_blocks, result.covariance);
 
   // Statistics of the data alone.
   double chi_square = 0.0;
+  const Eigen::ArrayXd fitted = model.item_values(u);
   for (std::size_t j = 0; j < data.items.size(); ++j) {
-    const double f = model.item_value(u.data(), j, nullptr);
+    const double f = fitted[static_cast<Eigen::Index>(j)];
     const double r = model.residual(j, f, sigma).value;
     chi_square += r * r;
     if (robust) result.robust_cost += robust_rho(options.solver.loss, options.solver.loss_scale, r * r);
@@ -858,7 +933,7 @@ ModelFitResult fit_model(const ModelData& data, const ModelSpec& spec, const Mod
   } else {
     result.residual_scatter = std::sqrt(residual_variance) * (data.bands ? 1.0 : sigma.front());
     if (result.degrees_of_freedom > 0) {
-      result.covariance *= residual_variance;
+      for (double& c : result.covariance) c *= residual_variance;
       for (ItemFit& item : result.items) item.residual /= std::sqrt(residual_variance > 0.0 ? residual_variance : 1.0);
     } else {
       result.covariance_available = false;
@@ -867,7 +942,7 @@ ModelFitResult fit_model(const ModelData& data, const ModelSpec& spec, const Mod
   for (std::size_t p = 0; p < u.size(); ++p) {
     FittedParameter& fp = result.parameters[p];
     fp.internal = u[p];
-    fp.value = fp.info.natural(u[p]);
+    if (!fp.fixed) fp.value = fp.info.natural(u[p]);  // a fixed value stays as given, without round-off
     if (fp.prior) {
       const double r = (fp.value - fp.prior->mean) / fp.prior->sigma;
       result.prior_chi_square += r * r;
@@ -880,11 +955,11 @@ ModelFitResult fit_model(const ModelData& data, const ModelSpec& spec, const Mod
   }
   if (result.covariance_available) {
     for (std::size_t i = 0; i < result.free.size(); ++i) {
-      const double variance = result.covariance(static_cast<Eigen::Index>(i), static_cast<Eigen::Index>(i));
+      const double variance = result.covariance_at(i, i);
       result.parameters[result.free[i]].internal_sigma = std::sqrt(std::max(variance, 0.0));
     }
   } else {
-    result.covariance.resize(0, 0);
+    result.covariance.clear();
   }
   order_components(model.nodes().layout(), result);
   add_model_warnings(data, model, sigma, result);

@@ -9,14 +9,14 @@
 //  1. Start (no initial values needed): for one-temperature models a coarse grid over ln T (ratio 2
 //     between nodes, spanning x = h nu / k T from 1e-3 to 300 over the data) with the scale in
 //     closed form and golden-section refinement (two_parameter_fit.h), repeated over a few values
-//     of each other free parameter (beta in {1, 1.5, 2}, E(B-V) in {0, 0.25, 0.5, 1, 2}, the
+//     of each other free parameter (beta in {1, 1.5, 2}, E(B-V) in {0, 0.5, 1.5}, the
 //     turnover across the data); for two temperatures a grid over pairs T_1 < T_2 at least a factor
 //     2 apart, both scales in closed form (2 x 2 linear least squares), so the search cannot
 //     collapse the components onto one. An initial value replaces the search for its parameter.
 //  2. Local solve: Levenberg-Marquardt (Levenberg 1944; Marquardt 1963) in Ceres Solver, one
 //     parameter block per parameter (held constant when fixed, bounded when bounds apply), an
 //     analytic Jacobian, and each prior (p - mean) / sigma as one more residual.
-//  3. Covariance: ceres::Covariance (dense SVD) over the free parameters in the solver's space (ln
+//  3. Covariance: (J^T J)^-1 (ceres_settings::covariance) over the free parameters in the solver's space (ln
 //     of positive quantities), scaled by chi^2 / dof when the errors were estimated; the correlation
 //     matrix follows.
 //  4. Statistics: chi^2 of the data (priors reported apart), dof = items - free parameters,
@@ -31,8 +31,6 @@
 //   planckton::ModelFitResult fit = planckton::fit_model(planckton::model_data(photometry), spec, options);
 //   std::printf("T = %.1f K\n", fit.parameter("temperature").value);
 #pragma once
-
-#include <Eigen/Dense>
 
 #include <array>
 #include <cstddef>
@@ -123,7 +121,7 @@ struct ModelFitResult {
 
   std::vector<FittedParameter> parameters;  // all, in model_parameters order
   std::vector<std::size_t> free;            // indices of the free ones
-  Eigen::MatrixXd covariance;               // free x free, solver space; empty when unavailable
+  std::vector<double> covariance;           // free x free, row-major, solver space; empty when unavailable
   bool covariance_available = false;
 
   std::size_t points_used = 0;
@@ -139,7 +137,8 @@ struct ModelFitResult {
 
   const FittedParameter& parameter(const std::string& name) const;  // throws std::out_of_range
   std::vector<double> internal_values() const;
-  Eigen::MatrixXd correlation() const;
+  double covariance_at(std::size_t a, std::size_t b) const { return covariance[a * free.size() + b]; }
+  double correlation_at(std::size_t a, std::size_t b) const;  // of free parameters a and b
 };
 
 // The model at an observed frequency, in a convention (SI; per steradian for intensities), at the

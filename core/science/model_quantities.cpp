@@ -22,6 +22,18 @@ using std::numbers::pi;
 
 using Quantity = std::function<double(const std::vector<double>& u)>;
 
+}  // namespace
+
+double quadratic_form(const ModelFitResult& fit, const std::vector<double>& g) {
+  double sum = 0.0;
+  for (std::size_t a = 0; a < g.size(); ++a) {
+    for (std::size_t b = 0; b < g.size(); ++b) sum += g[a] * fit.covariance_at(a, b) * g[b];
+  }
+  return sum;
+}
+
+namespace {
+
 // The delta method of the header: Gaussian in ln Q, the gradient by central differences.
 class Propagation {
  public:
@@ -34,14 +46,16 @@ class Propagation {
     Estimate e;
     e.value = q(u_);
     if (!fit_.covariance_available || !(e.value > 0.0) || !std::isfinite(e.value)) return e;
-    const Eigen::VectorXd g = log_gradient(q, e.value);
-    double variance = g.dot(fit_.covariance * g) + extra_log_variance;
+    double variance = quadratic_form(fit_, log_gradient(q, e.value)) + extra_log_variance;
     if (distance_) variance += distance_power * distance_power * distance_->relative_error * distance_->relative_error;
     const double sigma = std::sqrt(std::max(variance, 0.0));
-    if (!std::isfinite(sigma)) return e;
+    if (!std::isfinite(sigma) || !std::isfinite(e.value * sigma)) return e;
     e.error = e.value * sigma;
-    e.interval_68 = {e.value * std::exp(-sigma), e.value * std::exp(sigma)};
-    e.interval_95 = {e.value * std::exp(-2.0 * sigma), e.value * std::exp(2.0 * sigma)};
+    // Intervals only where both ends are numbers (a huge sigma overflows exp).
+    if (std::isfinite(e.value * std::exp(sigma))) e.interval_68 = {e.value * std::exp(-sigma), e.value * std::exp(sigma)};
+    if (std::isfinite(e.value * std::exp(2.0 * sigma))) {
+      e.interval_95 = {e.value * std::exp(-2.0 * sigma), e.value * std::exp(2.0 * sigma)};
+    }
     return e;
   }
 
@@ -57,8 +71,8 @@ class Propagation {
   }
 
  private:
-  Eigen::VectorXd log_gradient(const Quantity& q, double value) const {
-    Eigen::VectorXd g(static_cast<Eigen::Index>(fit_.free.size()));
+  std::vector<double> log_gradient(const Quantity& q, double value) const {
+    std::vector<double> g(fit_.free.size());
     for (std::size_t i = 0; i < fit_.free.size(); ++i) {
       const std::size_t p = fit_.free[i];
       const double sigma = fit_.parameters[p].internal_sigma.value_or(0.0);
@@ -67,8 +81,7 @@ class Propagation {
       up[p] += h;
       down[p] -= h;
       const double qu = q(up), qd = q(down);
-      g[static_cast<Eigen::Index>(i)] =
-          qu > 0.0 && qd > 0.0 ? (std::log(qu) - std::log(qd)) / (2.0 * h) : (qu - qd) / (2.0 * h * value);
+      g[i] = qu > 0.0 && qd > 0.0 ? (std::log(qu) - std::log(qd)) / (2.0 * h) : (qu - qd) / (2.0 * h * value);
     }
     return g;
   }
@@ -86,7 +99,8 @@ struct IntrinsicModel {
   NodeModel model;
 
   explicit IntrinsicModel(const ModelFitResult& fit)
-      : spec(rest_spec(fit.spec)), infos(model_parameters(fit.spec)), model(spec, infos) {}
+      : spec(rest_spec(fit.spec)), infos(model_parameters(fit.spec)),
+        model(spec, infos, node_terms(spec, Convention::kEnergyPerFrequency, {1e12}, false)) {}
 
   static ModelSpec rest_spec(ModelSpec spec) {
     spec.redshift = 0.0;
@@ -94,9 +108,9 @@ struct IntrinsicModel {
   }
 
   double log_f_nu(const std::vector<double>& u, double log_nu, int component = -1) const {
-    const double value = model.evaluate(u.data(), node_term(spec, Convention::kEnergyPerFrequency, std::exp(log_nu), false),
-                                        nullptr, component);
-    return std::log(value);
+    model.move_single_node(Convention::kEnergyPerFrequency, std::exp(log_nu), false);
+    model.evaluate(u.data(), 0, 1, false, component);
+    return std::log(model.value()[0]);
   }
   double temperature(const std::vector<double>& u, int c) const {
     return std::exp(u[static_cast<std::size_t>(model.layout().temperature[static_cast<std::size_t>(c)])]);
@@ -187,9 +201,14 @@ std::vector<PeakEstimate> peaks_of(const IntrinsicModel& m, const Propagation& p
     const bool one_temperature = m.spec.kind != ModelKind::kTwoTemperature || component >= 0;
     const double x = one_temperature ? constants::kPlanckOverBoltzmann * at_fit / m.temperature(propagation.u(), std::max(component, 0))
                                      : std::numeric_limits<double>::quiet_NaN();
+    // Beyond one Planck curve, the curve is the model's: "maximum of B_nu, energy per ..." becomes
+    // "maximum of the fitted model's intrinsic curve (without extinction), energy per ...".
     std::string description(convention.description);
     if (m.spec.kind != ModelKind::kPlanck && m.spec.kind != ModelKind::kDilutedPlanck) {
-      description = "maximum of the fitted model's intrinsic curve (without extinction) in the convention of " + description;
+      const std::size_t comma = description.find(", ");
+      const std::string what = comma != std::string::npos ? description.substr(comma + 2)
+                                                          : description.substr(std::string("maximum of the ").size());
+      description = "maximum of the fitted model's intrinsic curve (without extinction), " + what;
     }
     peaks.push_back({std::string(convention.id), description, convention.reported_as_wavelength, x,
                      propagation.positive(nu), propagation.positive(lambda)});

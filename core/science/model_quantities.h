@@ -66,6 +66,10 @@ struct ModelQuantities {
   std::vector<std::string> notes;  // what was not derived, and why
 };
 
+// g^T C g with C the covariance of the free parameters: the variance of a quantity whose gradient by
+// the free parameters' internal values is g.
+double quadratic_form(const ModelFitResult& fit, const std::vector<double>& g);
+
 // Throws InputError for a non-positive distance ("options.distance") or opacity
 // ("model.dust_opacity").
 ModelQuantities derive_model_quantities(const ModelFitResult& fit, const FluxDensityUnit& y_unit,

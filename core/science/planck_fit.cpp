@@ -236,7 +236,7 @@ double refine_temperature_at_scale(const PlanckKernel& kernel, double log_temper
 }
 
 // General path: a ceres::Problem with bounds on ln T and, for a robust loss, one residual block
-// per point so that the loss acts on each point; ceres::Covariance at the solution.
+// per point so that the loss acts on each point; the covariance at the solution (ceres_settings.h).
 SolveOutcome solve_general(const PlanckKernel& kernel, double* parameters, const PlanckFitOptions& options,
                            const Bounds& bounds) {
   const Eigen::Index n = static_cast<Eigen::Index>(kernel.terms().size());

@@ -21,7 +21,7 @@
 //     options.max_scale), runs a ceres::Problem with ln T bounded (and ln scale, when max_scale is
 //     set) and each point its own residual block so that the loss acts per point.
 //  3. Covariance: (J^T J)^-1 at the solution: the Gauss-Newton formula on the fast path, and
-//     ceres::Covariance on the general one (a test checks that they agree). Without y_error every
+//     the robustified Jacobian's on the general one (ceres_settings::covariance; a test checks that they agree). Without y_error every
 //     point has equal weight and the covariance is multiplied by chi^2 / dof, the residual variance
 //     (as scipy.optimize.curve_fit does with absolute_sigma=False), and a warning says so.
 //  4. Goodness of fit: chi^2, degrees of freedom n - 2, and the p-value Q(dof/2, chi^2/2) (the

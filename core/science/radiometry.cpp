@@ -265,14 +265,8 @@ void fit_linear(const MeasuredSpectrum& spectrum, const PlanckFitOptions& option
     }
   }
 
-  ceres::Covariance::Options covariance_options;
-  covariance_options.algorithm_type = ceres::DENSE_SVD;
-  covariance_options.num_threads = 1;
-  ceres::Covariance covariance(covariance_options);
-  const std::vector<std::pair<const double*, const double*>> blocks = {{parameters, parameters}};
-  std::array<double, 9> internal{};  // (ln T, e0, q)
-  const bool covariance_computed =
-      covariance.Compute(blocks, &problem) && covariance.GetCovarianceBlock(parameters, parameters, internal.data());
+  std::vector<double> internal;  // (ln T, e0, q), row-major 3 x 3
+  const bool covariance_computed = ceres_settings::covariance(problem, {parameters}, internal);
 
   const double start_temperature = fit.temperature_k;
   fit = PlanckFitResult{};

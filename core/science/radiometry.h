@@ -26,7 +26,7 @@
 //        ceres::Problem over (ln T, e0, s) with an analytic Jacobian, ln T within the temperature
 //        bounds and e0 in (0, 1], started from the constant fit (when e0 ends on 1, temperature and
 //        slope are solved again with e0 held there, so that the bounded optimum is reached); the
-//        covariance of (ln T, e0, s) from ceres::Covariance. (Internally the slope is carried as s times the band's half-width,
+//        covariance of (ln T, e0, s) from ceres_settings::covariance. (Internally the slope is carried as s times the band's half-width,
 //        a dimensionless number of the size of e0, so that the covariance is well conditioned.)
 //    Without y_error the covariance is scaled by chi^2 / dof as in planck_fit.h (dof = n - 3 for
 //    the linear form). Over a narrow band temperature and emissivity are nearly degenerate (a

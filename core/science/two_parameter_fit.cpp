@@ -64,13 +64,9 @@ SolveOutcome solve_problem(ceres::Problem& problem, double* parameters, const Pl
   outcome.message = summary.message;
   outcome.iterations = static_cast<int>(summary.iterations.size()) - 1;
 
-  ceres::Covariance::Options covariance_options;
-  covariance_options.algorithm_type = ceres::DENSE_SVD;
-  covariance_options.num_threads = 1;
-  ceres::Covariance covariance(covariance_options);
-  const std::vector<std::pair<const double*, const double*>> blocks = {{parameters, parameters}};
-  outcome.covariance_available = covariance.Compute(blocks, &problem) &&
-                                 covariance.GetCovarianceBlock(parameters, parameters, outcome.covariance.data());
+  std::vector<double> covariance;
+  outcome.covariance_available = ceres_settings::covariance(problem, {parameters}, covariance);
+  if (outcome.covariance_available) std::copy(covariance.begin(), covariance.end(), outcome.covariance.begin());
   return outcome;
 }
 

@@ -106,7 +106,7 @@ SolveOutcome solve_small_dense(const Problem& problem, double* parameters, const
 #pragma GCC diagnostic pop
 
 // General path: solves a ceres::Problem over the parameter block (bounds and losses already set)
-// within the options' budgets, then ceres::Covariance (dense SVD) at the solution.
+// within the options' budgets, then the covariance (ceres_settings::covariance) at the solution.
 SolveOutcome solve_problem(ceres::Problem& problem, double* parameters, const PlanckFitOptions& options);
 
 // The Gauss-Newton covariance (J^T J)^-1 (e.g. W. H. Press et al., Numerical Recipes, 3rd ed.,

@@ -18,6 +18,7 @@
 #include "science/input_error.h"
 #include "science/peaks.h"
 #include "science/planck.h"
+#include "science/ceres_settings.h"
 #include "science/planck_fit.h"
 #include "science/spectrum.h"
 #include "science/units.h"
@@ -144,7 +145,7 @@ TEST(Fit, RecoversTemperatureWithinThreeSigma) {
 }
 
 // The fast path (ceres::TinySolver and the Gauss-Newton covariance of planck_fit.cpp) and the
-// general path (ceres::Problem and ceres::Covariance) must agree on the same least-squares problem.
+// general path (ceres::Problem and ceres_settings::covariance) must agree on the same least-squares problem.
 // A Huber loss whose scale no residual reaches is plain least squares but takes the general path.
 TEST(Fit, FastPathAgreesWithCeresProblemAndCovariance) {
   std::mt19937_64 rng(31);
@@ -817,3 +818,42 @@ TEST(Fit, SameInputGivesBitIdenticalResults) {
 }
 
 }  // namespace
+
+// ceres_settings::covariance (J^T J from ceres::Problem::Evaluate, inverted by Eigen) against Ceres'
+// own ceres::Covariance (DENSE_SVD) on the same problem, with and without a robust loss: the fits
+// compute their own so that a singular matrix is not a line on the log, and must lose nothing.
+struct ExponentialResidual {
+  double x, y;
+  template <class T>
+  bool operator()(const T* p, T* r) const {
+    r[0] = T(y) - p[0] * exp(-p[1] * T(x));
+    return true;
+  }
+};
+
+TEST(Fit, CovarianceAgreesWithCeresCovariance) {
+  using Exponential = ExponentialResidual;
+  for (bool robust : {false, true}) {
+    double p[2] = {2.0, 0.5};
+    ceres::Problem::Options options;
+    ceres::Problem problem(options);
+    std::mt19937_64 rng(5);
+    std::normal_distribution<double> normal(0.0, 0.05);
+    for (int i = 0; i < 40; ++i) {
+      const double x = 0.2 * i;
+      auto* cost = new ceres::AutoDiffCostFunction<Exponential, 1, 2>(new Exponential{x, 2.0 * std::exp(-0.5 * x) + normal(rng)});
+      problem.AddResidualBlock(cost, robust ? new ceres::CauchyLoss(0.05) : nullptr, p);
+    }
+    ceres::Solver::Summary summary;
+    ceres::Solve(planckton::ceres_settings::solver_options(100, 10.0), &problem, &summary);
+    std::vector<double> ours;
+    ASSERT_TRUE(planckton::ceres_settings::covariance(problem, {p}, ours));
+    ceres::Covariance::Options covariance_options;
+    covariance_options.algorithm_type = ceres::DENSE_SVD;
+    ceres::Covariance reference(covariance_options);
+    ASSERT_TRUE(reference.Compute(std::vector<std::pair<const double*, const double*>>{{p, p}}, &problem));
+    double theirs[4];
+    ASSERT_TRUE(reference.GetCovarianceBlock(p, p, theirs));
+    for (int k = 0; k < 4; ++k) EXPECT_NEAR(ours[static_cast<std::size_t>(k)], theirs[k], 1e-9 * std::abs(theirs[0])) << robust << k;
+  }
+}
