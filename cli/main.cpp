@@ -34,6 +34,7 @@ struct FitArguments {
   std::string plot;             // also write the SVG here
   // Table settings, by their api parameter names (see api/fit_service.h).
   std::vector<std::string> exclude;
+  std::vector<std::string> fix;
 };
 
 std::string read_input(const std::string& file) {
@@ -77,6 +78,7 @@ planckton::api::TableParameters table_parameters(const FitArguments& args,
     if (!value->empty()) parameters.emplace_back(name, *value);
   }
   for (const std::string& range : args.exclude) parameters.emplace_back("exclude", range);
+  for (const std::string& fixed : args.fix) parameters.emplace_back("fix", fixed);
   return parameters;
 }
 
@@ -102,7 +104,11 @@ int main(int argc, char** argv) {
       {"x_column", "table column of x: header name or 1-based index"},
       {"y_column", "table column of y: header name or 1-based index"},
       {"error_column", "table column of y_error: name, index, or 'none'"},
-      {"model", "model kind (planck)"},
+      {"model", "model kind: planck, diluted_planck, modified_black_body or two_temperature"},
+      {"opacity", "modified_black_body: thin or general"},
+      {"redshift", "fixed redshift z of the source"},
+      {"extinction", "extinction law: cardelli1989, odonnell1994, fitzpatrick1999 or calzetti2000"},
+      {"r_v", "R_V of the extinction law"},
       {"loss", "robust loss: none, huber or cauchy"},
       {"loss_scale", "robust loss scale, in units of sigma"},
       {"distance", "distance as 'VALUE UNIT', e.g. '120 pc'"},
@@ -122,6 +128,7 @@ int main(int argc, char** argv) {
     flags.emplace_back(kTableFlags[i].first, &values[i]);
   }
   fit->add_option("--exclude", args.exclude, "for a table: mask the x range LO:HI (in --x-unit); repeatable");
+  fit->add_option("--fix", args.fix, "for a table or FITS file: hold parameter NAME at VALUE (NAME:VALUE, e.g. beta:2); repeatable");
 
   // The laboratory documents (JSON requests only).
   std::string lab_file;

@@ -1,5 +1,8 @@
 #include "api/catalogue.h"
 
+#include "science/extinction.h"
+#include "science/model.h"
+
 #include <cstdio>
 #include <cstdlib>
 #include <string>
@@ -66,35 +69,108 @@ nlohmann::ordered_json passband_entry(const Passband& band) {
 
 }  // namespace
 
+namespace {
+
+using json = nlohmann::ordered_json;
+
+json parameters_json(const ModelSpec& spec) {
+  json list = json::array();
+  for (const ParameterInfo& p : model_parameters(spec)) {
+    list.push_back({{"name", p.name},
+                    {"unit", p.unit.empty() ? "sr for flux densities, 1 for intensities, relative for relative spectra" : p.unit},
+                    {"meaning", p.meaning},
+                    {"fitted_as", p.logarithmic ? "ln " + p.name : p.name},
+                    {"default_bounds", {std::isfinite(p.lower) ? json(p.lower) : json(nullptr),
+                                        std::isfinite(p.upper) ? json(p.upper) : json(nullptr)}}});
+  }
+  return list;
+}
+
+json model_entry(const char* kind, const char* description, const json& variants, const json& members) {
+  return {{"kind", kind}, {"description", description}, {"variants", variants}, {"members", members},
+          {"data", {"spectrum", "photometry"}}};
+}
+
+json variant(const char* when, const ModelSpec& spec) { return {{"when", when}, {"parameters", parameters_json(spec)}}; }
+
+json extinction_laws_json() {
+  json list = json::array();
+  for (const ExtinctionLawInfo& law : extinction_laws()) {
+    list.push_back({{"law", law.id},
+                    {"citation", law.citation},
+                    {"description", law.description},
+                    {"range_um", extinction_range_um(law)},
+                    {"default_r_v", law.default_r_v}});
+  }
+  return list;
+}
+
+}  // namespace
+
 nlohmann::ordered_json models_document() {
   const PlanckFitOptions defaults;
-  using json = nlohmann::ordered_json;
-  json planck = {
-      {"kind", "planck"},
-      {"description", "scale * B(T): a black body in the convention of the data (per unit frequency, "
-                      "wavelength, wavenumber or photon energy; energy or photons)"},
-      {"parameters",
-       json::array({
-           {{"name", "temperature"}, {"unit", "K"}, {"fitted_as", "ln temperature"},
-            {"default_bounds", {defaults.min_temperature_k, defaults.max_temperature_k}}},
-           {{"name", "scale"}, {"unit", "sr for flux densities, 1 for intensities, relative for relative spectra"},
-            {"fitted_as", "ln scale"},
-            {"meaning", "solid angle subtended by the source; emissivity; or an arbitrary normalisation"}},
-       })},
-      {"options",
-       json::array({
-           {{"name", "temperature_bounds"}, {"unit", "K"}, {"default", {defaults.min_temperature_k, defaults.max_temperature_k}}},
-           {{"name", "loss"}, {"kinds", {"none", "huber", "cauchy"}}, {"default", "none"},
-            {"scale_default", defaults.loss_scale}, {"scale_unit", "sigma"}, {"applies_to", "spectrum"}},
-           {{"name", "distance"}, {"units", documented_length_units()}, {"default", nullptr}},
-           {{"name", "max_iterations"}, {"default", defaults.max_iterations}},
-           {{"name", "time_budget_seconds"}, {"unit", "s"}, {"default", defaults.time_budget_seconds}},
-           {{"name", "systematic_error"}, {"unit", "fraction of the flux"}, {"default", 0.0}, {"applies_to", "photometry"}},
-       })},
-      {"data", {"spectrum", "photometry"}},
-      {"method", "grid start over ln T, then Levenberg-Marquardt in Ceres Solver; covariance intervals"},
-  };
-  return {{"models", json::array({planck})}};
+  ModelSpec planck, diluted, diluted_known, thin, general, two;
+  diluted.kind = diluted_known.kind = ModelKind::kDilutedPlanck;
+  diluted_known.angular_radius = AngularRadius{1.0, 0.0};
+  thin.kind = general.kind = ModelKind::kModifiedBlackBody;
+  general.opacity = DustOpacity::kGeneral;
+  two.kind = ModelKind::kTwoTemperature;
+  json models = json::array({
+      model_entry("planck",
+                  "scale * B(T): a black body in the convention of the data (per unit frequency, wavelength, "
+                  "wavenumber or photon energy; energy or photons)",
+                  json::array({variant("always", planck)}), json::array()),
+      model_entry("diluted_planck",
+                  "pi theta^2 zeta^2 B(T): a photosphere radiating below the black body of its colour temperature "
+                  "by the dilution factor zeta (expanding-photosphere method)",
+                  json::array({variant("angular_radius or radius (with options.distance) given", diluted_known),
+                               variant("no angular radius: only theta zeta is constrained", diluted)}),
+                  json::array({"angular_radius {value, unit (rad, deg, arcsec, mas, uas), error}",
+                               "radius {value, unit (a length), error}, with options.distance"})),
+      model_entry("modified_black_body",
+                  "dust: Omega (nu / nu_0)^beta B_nu(T) (opacity thin) or Omega (1 - exp(-(nu / nu_t)^beta)) B_nu(T) "
+                  "(opacity general, nu_t where the optical depth is one)",
+                  json::array({variant("opacity thin (default)", thin), variant("opacity general", general)}),
+                  json::array({"opacity: thin | general", "reference_frequency {value, unit}: nu_0 of the thin form, "
+                               "default 1 THz (300 um)",
+                               "dust_opacity {value, unit (m2/kg, cm2/g), at {value, unit}}: with options.distance, the "
+                               "dust mass"})),
+      model_entry("two_temperature",
+                  "scale_1 B(T_1) + scale_2 B(T_2), T_1 < T_2: two black bodies (a binary, a disc with a hot spot, "
+                  "two dust components)",
+                  json::array({variant("always", two)}), json::array()),
+  });
+  json modifiers = {
+      {"extinction",
+       {{"member", "extinction {law, r_v, frame: observed | rest}"},
+        {"adds_parameter", "color_excess (E(B-V), mag; default bounds [0, 10])"},
+        {"laws", extinction_laws_json()},
+        {"note", "outside a law's range the request is refused (422), never extrapolated"}}},
+      {"redshift",
+       {{"member", "redshift (fixed z >= 0)"},
+        {"meaning", "the model is evaluated in the rest frame: temperatures, beta and turnover_frequency are rest-frame "
+                    "values; the response gives both frames"}}}};
+  json control = {
+      {"member", "parameters {<name>: {fixed} | {bounds, prior {mean, sigma}, initial}}"},
+      {"units", "those of each parameter above"},
+      {"prior", "Gaussian: ((value - mean) / sigma)^2 is added to the minimised sum and reported apart from chi-square"}};
+  json options = json::array({
+      {{"name", "temperature_bounds"}, {"unit", "K"}, {"default", {defaults.min_temperature_k, defaults.max_temperature_k}},
+       {"applies_to", "every temperature without its own bounds"}},
+      {{"name", "loss"}, {"kinds", {"none", "huber", "cauchy"}}, {"default", "none"},
+       {"scale_default", defaults.loss_scale}, {"scale_unit", "sigma"}, {"applies_to", "spectrum"}},
+      {{"name", "distance"}, {"units", documented_length_units()}, {"default", nullptr},
+       {"meaning", "luminosity distance when a redshift is given"}},
+      {{"name", "max_iterations"}, {"default", defaults.max_iterations}},
+      {{"name", "time_budget_seconds"}, {"unit", "s"}, {"default", defaults.time_budget_seconds}},
+      {{"name", "systematic_error"}, {"unit", "fraction of the flux"}, {"default", 0.0}, {"applies_to", "photometry"}},
+  });
+  return {{"models", std::move(models)},
+          {"modifiers", std::move(modifiers)},
+          {"parameter_control", std::move(control)},
+          {"options", std::move(options)},
+          {"method", "a coarse start search (over ln T, and pairs of temperatures for two components), then "
+                     "Levenberg-Marquardt in Ceres Solver; covariance intervals"}};
 }
 
 nlohmann::ordered_json units_document() {
@@ -125,6 +201,10 @@ nlohmann::ordered_json quoted_flux_json(const QuotedFlux& quoted) {
           {"reference_wavelength_nm", as_written(quoted.reference_wavelength_m, kNanometresPerMetre)},
           {"reference", reference},
           {"source", quoted.source}};
+}
+
+nlohmann::ordered_json extinction_range_um(const ExtinctionLawInfo& law) {
+  return {as_written(law.min_wavelength_m, kMicrometresPerMetre), as_written(law.max_wavelength_m, kMicrometresPerMetre)};
 }
 
 nlohmann::ordered_json passbands_document() {

@@ -7,6 +7,8 @@
 
 #include <nlohmann/json.hpp>
 
+#include "science/extinction.h"
+
 #include "science/passband.h"
 
 namespace planckton::api {
@@ -20,6 +22,10 @@ nlohmann::ordered_json health_document();
 //   {"kind": "monochromatic", "reference_wavelength_nm": ..., "reference": {"kind": "power_law",
 //    "power_law_index": alpha} | {"kind": "black_body", "temperature": T}, "source": ...}
 nlohmann::ordered_json quoted_flux_json(const QuotedFlux& quoted);
+
+// [lo, hi] of an extinction law's published range in um, as the papers write them (0.1, not
+// 0.09999999999999999).
+nlohmann::ordered_json extinction_range_um(const ExtinctionLawInfo& law);
 
 // Every shipped band in the order of INDEX.csv, with pivot wavelength, effective width, range,
 // how its fluxes are quoted and its Vega zero point (wavelengths in nm).

@@ -56,13 +56,23 @@ std::string common_header(const FitOutcome& outcome) {
                             r.value("status", std::string("?")) + ", version " +
                             r.value(json::json_pointer("/provenance/version"), std::string("?")) + ", constants " +
                             r.value(json::json_pointer("/provenance/constants"), std::string("?")));
-  out += comment("temperature: " + number_text(r, "/parameters/temperature/value") + " K, error " +
-                 number_text(r, "/parameters/temperature/error") + " K, 68 % interval [" +
-                 number_text(r, "/parameters/temperature/interval_68/0") + ", " +
-                 number_text(r, "/parameters/temperature/interval_68/1") + "] K");
-  out += comment("scale: " + number_text(r, "/parameters/scale/value") + " " +
-                 r.value(json::json_pointer("/parameters/scale/unit"), std::string()) + " (" +
-                 r.value(json::json_pointer("/parameters/scale/meaning"), std::string()) + ")");
+  // One line per parameter, in the response's order (temperature and scale for a Planck fit).
+  if (r.contains("parameters") && r["parameters"].is_object()) {
+    for (const auto& [name, p] : r["parameters"].items()) {
+      const std::string at = "/parameters/" + name;
+      const std::string unit = p.value("unit", std::string());
+      std::string line = name + ": " + number_text(r, (at + "/value").c_str()) + " " + unit;
+      if (p.contains("fixed") && p["fixed"] == true) {
+        line += " (fixed)";
+      } else {
+        line += ", error " + number_text(r, (at + "/error").c_str()) + " " + unit + ", 68 % interval [" +
+                number_text(r, (at + "/interval_68/0").c_str()) + ", " + number_text(r, (at + "/interval_68/1").c_str()) +
+                "] " + unit;
+      }
+      if (p.contains("meaning") && p["meaning"].is_string()) line += " (" + p["meaning"].get<std::string>() + ")";
+      out += comment(line);
+    }
+  }
   return out;
 }
 
@@ -73,8 +83,10 @@ std::string spectrum_csv(const FitOutcome& outcome) {
   std::string out = common_header(outcome);
   out += comment("units: x in " + input.x_unit + "; y, y_error and model in " + input.y_unit + " (" +
                  std::string(convention_name(unit.convention)) + (unit.per_steradian ? ", per steradian" : "") + ")");
-  out += comment("model: the fitted curve scale * B(T) in the data's convention at each x (the JSON response's "
-                 "temperature and scale)");
+  out += comment(std::string("model: the fitted ") +
+                 (outcome.model_fit ? "model (the JSON response's parameters, extinction included)"
+                                    : "curve scale * B(T) (the JSON response's temperature and scale)") +
+                 " in the data's convention at each x");
   out += comment(has_errors ? "residual: (y - model) / y_error"
                             : "residual: y - model, in " + input.y_unit + " (no y_error was given; y_error is empty)");
   out += comment("excluded: 1 for points inside the request's exclude ranges (not fitted), else 0");
@@ -82,7 +94,7 @@ std::string spectrum_csv(const FitOutcome& outcome) {
   out += "x,y,y_error,model,residual,excluded\n";
   for (std::size_t i = 0; i < input.x.size(); ++i) {
     const double x = input.x[i], y = input.y[i];
-    const double model = fitted_curve(outcome.fit, unit.convention, to_frequency(outcome.spectrum->x_unit, x)).value / unit.to_si;
+    const double model = outcome_curve(outcome, unit.convention, to_frequency(outcome.spectrum->x_unit, x)).value / unit.to_si;
     const double residual = has_errors ? (y - model) / input.y_error[i] : y - model;
     bool excluded = false;
     for (const auto& range : input.exclude) excluded = excluded || (x >= range[0] && x <= range[1]);
@@ -96,8 +108,8 @@ std::string photometry_csv(const FitOutcome& outcome) {
   std::string out = common_header(outcome);
   out += comment("one row per band, from the JSON response's bands: value, error and model in the band's unit "
                  "(flux density or magnitude), pivot wavelength in nm");
-  out += comment("model: the fitted curve scale * B_nu(T) integrated through the band's response, quoted as the band "
-                 "quotes fluxes");
+  out += comment(std::string("model: the fitted ") + (outcome.model_fit ? "model" : "curve scale * B_nu(T)") +
+                 " integrated through the band's response, quoted as the band quotes fluxes");
   out += comment("residual: (value - model) / sigma (sigma_used of the response); for an upper limit "
                  "sqrt(-2 ln Phi((limit - model) / sigma)), positive below the limit");
   out += comment("upper_limit: 1 for a non-detection (value is the limit), else 0; error empty when none was given");

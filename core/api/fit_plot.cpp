@@ -299,6 +299,7 @@ struct AxisTitle {
 struct Plot {
   bool photometry = false;
   std::string title, subtitle, description, footer;
+  std::string curve_legend = "Planck fit";
   AxisTitle x_label, y_label, residual_label;
   std::string residual_note;
   bool x_log = false, y_log = false;
@@ -318,6 +319,7 @@ void sample_curve(Curve& curve, double lo, double hi, bool log_axis, const std::
     const double t = static_cast<double>(k) / (kCurvePoints - 1);
     const double x = log_axis ? lo * std::pow(hi / lo, t) : lo + t * (hi - lo);
     const ModelPoint m = model_at(x);
+    if (!std::isfinite(m.value)) continue;  // outside an extinction law's range: not drawn
     const double value = m.value / to_si;
     curve.x.push_back(x);
     curve.value.push_back(value);
@@ -792,7 +794,7 @@ std::string render(const Plot& plot) {
     if (any_excluded) legend.push_back({Swatch::kHollowPoint, "excluded points (not fitted)"});
     if (!plot.excluded_ranges.empty()) legend.push_back({Swatch::kRange, "excluded ranges"});
   }
-  legend.push_back({Swatch::kLine, "Planck fit"});
+  legend.push_back({Swatch::kLine, plot.curve_legend});
   legend.push_back({Swatch::kBand, "fit \u00B1 1\u03C3"});
   if (peak_drawn) legend.push_back({Swatch::kDashed, plot.peak->legend});
   draw_legend(out, legend, occupied);
@@ -804,17 +806,36 @@ std::string render(const Plot& plot) {
 // ---- from the outcome to what is drawn -------------------------------------------------------
 
 struct Headline {
-  std::string title, temperature_text;
+  std::string title, temperature_text, curve, legend;
 };
 
-Headline headline(const json& response, const char* what) {
-  const json::json_pointer t("/parameters/temperature");
+// "T = 5772 ± 12 K" of a temperature parameter of the response.
+std::string temperature_text(const json& response, const std::string& name, const char* symbol) {
+  const json::json_pointer t("/parameters/" + name);
   const double value = number_at(response, t / "value").value_or(0.0);
+  return std::string(symbol) + " = " + with_error(value, number_at(response, t / "error")) + " K";
+}
+
+Headline headline(const json& response) {
+  const std::string model = response.contains("model") && response["model"].is_string() ? response["model"].get<std::string>() : "planck";
+  const char* what = model == "diluted_planck"        ? "Diluted Planck fit"
+                     : model == "modified_black_body" ? "Modified black-body fit"
+                     : model == "two_temperature"     ? "Two-temperature fit"
+                                                      : "Planck fit";
+  Headline out;
+  out.curve = model == "planck" ? "the fitted Planck curve" : "the fitted model";
+  out.legend = model == "planck" ? "Planck fit" : "model fit";
+  if (model == "two_temperature") {
+    out.temperature_text = temperature_text(response, "temperature_1", "T\u2081") + ", " +
+                           temperature_text(response, "temperature_2", "T\u2082");
+    out.title = std::string(what) + ": " + out.temperature_text;
+    return out;
+  }
+  const json::json_pointer t("/parameters/temperature");
   const std::optional<double> error = number_at(response, t / "error");
   const std::optional<double> lo = number_at(response, t / "interval_68" / 0);
   const std::optional<double> hi = number_at(response, t / "interval_68" / 1);
-  Headline out;
-  out.temperature_text = "T = " + with_error(value, error) + " K";
+  out.temperature_text = temperature_text(response, "temperature", "T");
   out.title = std::string(what) + ": " + out.temperature_text;
   if (lo && hi) {
     const int decimals = decimals_for(error.value_or(0.0));
@@ -844,9 +865,11 @@ std::string goodness(const json& response) {
 }
 
 std::string footer(const json& response) {
-  return "planckton " + response.value("/provenance/version"_json_pointer, std::string("?")) +
-         " \u00B7 model: scale \u00D7 Planck's law, " + response.value("/provenance/constants"_json_pointer, std::string("")) +
-         " constants";
+  const std::string model = response.value("model", std::string("planck"));
+  return "planckton " + response.value("/provenance/version"_json_pointer, std::string("?")) + " \u00B7 model: " +
+         (model == "planck" ? std::string("scale \u00D7 Planck's law") : model) +
+         (response.contains("extinction") ? " with " + response.value("/extinction/law"_json_pointer, std::string("")) + " extinction" : "") +
+         ", " + response.value("/provenance/constants"_json_pointer, std::string("")) + " constants";
 }
 
 // The peak of the data's convention, as the response reports it, converted by to_axis (Hz -> the
@@ -905,7 +928,7 @@ Plot spectrum_plot(const FitOutcome& outcome) {
   const FluxDensityUnit& unit = outcome.unit;
   const Convention convention = unit.convention;
   const bool has_errors = !input.y_error.empty();
-  const auto model_at = [&](double x) { return fitted_curve(outcome.fit, convention, to_frequency(x_unit, x)); };
+  const auto model_at = [&](double x) { return outcome_curve(outcome, convention, to_frequency(x_unit, x)); };
 
   Plot plot;
   plot.has_errors = has_errors;
@@ -938,8 +961,9 @@ Plot spectrum_plot(const FitOutcome& outcome) {
   // The model on a fine grid over the data range (log-spaced on a log axis).
   if (!xs.empty()) sample_curve(plot.curve, xs.lo, xs.hi, plot.x_log, model_at, unit.to_si);
 
-  const Headline head = headline(outcome.response, "Planck fit");
+  const Headline head = headline(outcome.response);
   plot.title = head.title;
+  plot.curve_legend = head.legend;
   plot.subtitle = plural(input.x.size(), "point", "points") + " (" + std::to_string(excluded) + " excluded) \u00B7 " + goodness(outcome.response);
   plot.footer = footer(outcome.response);
   plot.x_label = {axis_quantity(x_unit.kind), x_unit.text, ""};
@@ -951,7 +975,7 @@ Plot spectrum_plot(const FitOutcome& outcome) {
   plot.description = "Measured spectrum of " + plural(input.x.size(), "point", "points") + " (" + unit.text + " against " +
                      x_unit.text + (has_errors ? ", with one-sigma error bars" : ", without errors") + ")" +
                      (excluded > 0 ? "; " + plural(excluded, "point", "points") + " inside the excluded ranges drawn hollow and grey, the ranges shaded" : "") +
-                     "; the fitted Planck curve, " + head.temperature_text + ", in the data's convention (" +
+                     "; " + head.curve + ", " + head.temperature_text + ", in the data's convention (" +
                      std::string(convention_name(convention)) + ") with its linearised one-sigma band" +
                      (plot.peak ? "; its " + plot.peak->legend + " at " + plot.peak->text.substr(5) + " marked" : "") +
                      ". Lower panel: residuals, " + plot.residual_note + ". Axes: x " + (plot.x_log ? "logarithmic" : "linear") +
@@ -1004,14 +1028,15 @@ Plot photometry_plot(const FitOutcome& outcome) {
   }
   if (!xs.empty()) {
     const auto model_at = [&](double lambda_um) {
-      return fitted_curve(outcome.fit, Convention::kEnergyPerFrequency, constants::kSpeedOfLight / (lambda_um * kMicrometre));
+      return outcome_curve(outcome, Convention::kEnergyPerFrequency, constants::kSpeedOfLight / (lambda_um * kMicrometre));
     };
     // The curve reaches a little beyond the bands.
     sample_curve(plot.curve, xs.lo / 1.15, xs.hi * 1.15, true, model_at, unit.to_si);
   }
 
-  const Headline head = headline(outcome.response, "Planck fit");
+  const Headline head = headline(outcome.response);
   plot.title = head.title;
+  plot.curve_legend = head.legend;
   plot.subtitle = "band photometry, " + plural(data.bands.size(), "band", "bands") + " (" + plural(data.upper_limits, "upper limit", "upper limits") + ") \u00B7 " +
                   goodness(outcome.response);
   plot.footer = footer(outcome.response);
@@ -1026,7 +1051,7 @@ Plot photometry_plot(const FitOutcome& outcome) {
   plot.description = "Band photometry, " + plural(data.bands.size(), "band", "bands") + " (" + band_list + "), as quoted F_nu in " + unit.text +
                      " at each band's pivot wavelength, with horizontal bars for the effective widths and one-sigma error bars" +
                      (data.upper_limits > 0 ? "; upper limits drawn as downward arrows" : "") +
-                     "; the fitted Planck curve scale \u00D7 B_nu, " + head.temperature_text +
+                     "; " + head.curve + (head.curve == "the fitted Planck curve" ? " scale \u00D7 B_nu" : "") + ", " + head.temperature_text +
                      ", with its linearised one-sigma band, and the model's value in each band as open squares" +
                      (plot.peak ? "; its " + plot.peak->legend + " at " + plot.peak->text.substr(5) + " marked" : "") +
                      ". Lower panel: residuals, " + plot.residual_note + ". Axes: logarithmic.";

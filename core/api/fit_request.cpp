@@ -66,17 +66,11 @@ void parse_options(const element& value, FitRequest& request) {
   }
 }
 
-void parse_model(const element& value, FitRequest& request) {
-  const Members m(value, "/model", {"kind"});
-  request.model_kind = string_at(m.require("kind"), m.at("kind"));
-  if (request.model_kind != "planck") fail(m.at("kind"), "is not a known model", {"planck"});
-}
-
 
 // One parser per thread: simdjson reuses its buffers from one document to the next.
 void apply_members(const Members& top, FitRequest& request) {
   if (const auto e = top.find("id")) request.id = request_id(*e);
-  if (const auto e = top.find("model")) parse_model(*e, request);
+  if (const auto e = top.find("model")) request.model = parse_model(*e);
   if (const auto e = top.find("options")) parse_options(*e, request);
 }
 
@@ -137,7 +131,7 @@ std::string pointer_for_field(const std::string& field, const std::optional<std:
     }
     return pointer;
   }
-  if (field.rfind("options.", 0) == 0) {
+  if (field.rfind("options.", 0) == 0 || field == "model" || field.rfind("model.", 0) == 0) {
     pointer = "/" + field;
     std::replace(pointer.begin(), pointer.end(), '.', '/');
   } else if (field == "distance.unit") {

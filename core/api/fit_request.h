@@ -5,7 +5,7 @@
 //                   "y_error": [...], "exclude": [[lo, hi], ...] },
 //   or "photometry": [ { "band": "2mass-j", "value": 9.68, "error": 0.02, "unit": "Vegamag" }, ... ]
 //                 (photometry_request.h has the whole member),
-//     "model":    { "kind": "planck" },
+//     "model":    { "kind": "planck", ... }   (model_request.h: the model family and its parameters)
 //     "options":  { "temperature_bounds": [lo, hi],                      K
 //                   "loss": { "kind": "none" | "huber" | "cauchy", "scale": 1.0 },
 //                   "distance": { "value": 120, "unit": "pc", "error": 5 },
@@ -27,6 +27,7 @@
 
 #include <nlohmann/json.hpp>
 
+#include "api/model_request.h"
 #include "science/derived_quantities.h"
 #include "science/photometry.h"
 #include "science/planck_fit.h"
@@ -49,7 +50,7 @@ struct FitRequest {
   std::optional<nlohmann::ordered_json> id;  // string or integer, echoed
   SpectrumInput spectrum;                    // unless photometry is given
   std::optional<PhotometryRequest> photometry;
-  std::string model_kind = "planck";
+  ModelRequest model;  // kind "planck" unless given
   PlanckFitOptions fit_options;
   bool time_budget_given = false;
   std::string loss_name = "none";

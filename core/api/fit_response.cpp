@@ -101,26 +101,91 @@ json derived_json(const DerivedQuantities& d) {
 
 }  // namespace
 
-nlohmann::ordered_json statistics_json(const FitRequest& request, const MeasuredSpectrum& spectrum,
-                                       const PlanckFitResult& fit) {
-  json doc = {{"chi_square", optional_number(fit.chi_square)},
-              {"degrees_of_freedom", fit.degrees_of_freedom},
+namespace {
+
+// What the statistics member needs from either kind of fit.
+struct Goodness {
+  std::optional<double> chi_square;
+  int degrees_of_freedom = 0;
+  std::optional<double> p_value;
+  std::size_t points_used = 0;
+  bool errors_estimated = false;
+  double residual_scatter = 0.0;  // spectra: SI of y; bands: fraction of flux
+  double robust_cost = 0.0;
+};
+
+Goodness goodness_of(const PlanckFitResult& fit) {
+  return {fit.chi_square, fit.degrees_of_freedom, fit.p_value, fit.points_used, fit.errors_estimated,
+          fit.residual_scatter_si, fit.robust_cost};
+}
+
+Goodness goodness_of(const ModelFitResult& fit) {
+  return {fit.chi_square, fit.degrees_of_freedom, fit.p_value, fit.points_used, fit.errors_estimated,
+          fit.residual_scatter, fit.robust_cost};
+}
+
+json chi_square_members(const Goodness& g) {
+  json doc = {{"chi_square", optional_number(g.chi_square)},
+              {"degrees_of_freedom", g.degrees_of_freedom},
               {"reduced_chi_square", nullptr},
-              {"p_value", optional_number(fit.p_value)},
-              {"points_given", spectrum.points_given},
-              {"points_excluded", spectrum.points_excluded},
-              {"points_used", fit.points_used},
-              {"errors", fit.errors_estimated ? "estimated from the residuals" : "given"}};
-  if (fit.chi_square && fit.degrees_of_freedom > 0) doc["reduced_chi_square"] = *fit.chi_square / fit.degrees_of_freedom;
-  if (fit.errors_estimated) {
-    doc["residual_scatter"] = {{"value", fit.residual_scatter_si / spectrum.y_unit.to_si},
-                               {"unit", spectrum.y_unit.text}};
+              {"p_value", optional_number(g.p_value)}};
+  if (g.chi_square && g.degrees_of_freedom > 0) doc["reduced_chi_square"] = *g.chi_square / g.degrees_of_freedom;
+  return doc;
+}
+
+json spectrum_statistics(const FitRequest& request, const MeasuredSpectrum& spectrum, const Goodness& g) {
+  json doc = chi_square_members(g);
+  doc["points_given"] = spectrum.points_given;
+  doc["points_excluded"] = spectrum.points_excluded;
+  doc["points_used"] = g.points_used;
+  doc["errors"] = g.errors_estimated ? "estimated from the residuals" : "given";
+  if (g.errors_estimated) {
+    doc["residual_scatter"] = {{"value", g.residual_scatter / spectrum.y_unit.to_si}, {"unit", spectrum.y_unit.text}};
   }
   if (request.fit_options.loss != RobustLoss::kNone) {
-    doc["robust_loss"] = {{"kind", request.loss_name}, {"scale", request.fit_options.loss_scale},
-                          {"cost", fit.robust_cost}};
+    doc["robust_loss"] = {{"kind", request.loss_name}, {"scale", request.fit_options.loss_scale}, {"cost", g.robust_cost}};
   }
   return doc;
+}
+
+json photometry_statistics(const MeasuredPhotometry& data, const Goodness& g) {
+  json doc = chi_square_members(g);
+  doc["bands_given"] = data.bands.size();
+  doc["detections"] = data.detections;
+  doc["upper_limits"] = data.upper_limits;
+  doc["points_used"] = g.points_used;
+  doc["errors"] = g.errors_estimated ? "estimated from the residuals" : "given";
+  if (g.errors_estimated) doc["residual_scatter"] = {{"value", g.residual_scatter}, {"unit", "fraction of flux"}};
+  if (data.upper_limits > 0) {
+    doc["upper_limit_terms"] = "chi_square includes -2 ln Phi((limit - model) / sigma) for each upper limit "
+                               "(censored data, Sawicki 2012, PASP 124, 1208)";
+  }
+  return doc;
+}
+
+json spectrum_input(const MeasuredSpectrum& spectrum) {
+  return {{"x_unit", spectrum.x_unit.text},
+          {"y_unit", spectrum.y_unit.text},
+          {"convention", std::string(convention_name(spectrum.y_unit.convention)) +
+                             (spectrum.y_unit.per_steradian ? ", per steradian" : "")}};
+}
+
+json photometry_input(const FitRequest& request, const MeasuredPhotometry& data, const FluxDensityUnit& unit) {
+  std::size_t nodes = 0;
+  for (const BandMeasurement& b : data.bands) nodes += b.quadrature.frequency_hz.size();
+  return {{"photometry", data.bands.size()},
+          {"convention", std::string(convention_name(unit.convention)) + (unit.per_steradian ? ", per steradian" : "") +
+                             " (each band's quoted flux density)"},
+          {"band_integration", "product integration through each band's response: " + std::to_string(nodes) +
+                                   " nodes in all (Gauss-Legendre in ln wavelength)"},
+          {"systematic_error", request.photometry->input.systematic_fraction}};
+}
+
+}  // namespace
+
+nlohmann::ordered_json statistics_json(const FitRequest& request, const MeasuredSpectrum& spectrum,
+                                       const PlanckFitResult& fit) {
+  return spectrum_statistics(request, spectrum, goodness_of(fit));
 }
 
 nlohmann::ordered_json warnings_json(const std::vector<FitWarning>& warnings) {
@@ -145,7 +210,7 @@ json response_document(const FitRequest& request, const FluxDensityUnit& unit, c
   const double correlation = fit.covariance_available ? fit.log_correlation() : 0.0;
   json response;
   if (request.id) response["id"] = *request.id;
-  response["model"] = request.model_kind;
+  response["model"] = request.model.kind_name;
   response["status"] = fit.converged ? "converged" : "not_converged";
   response["parameters"] = {{"temperature", estimate_json(derived.temperature_k, "K")},
                             {"scale", scale_json(derived.scale, unit)}};
@@ -198,48 +263,193 @@ json band_json(const BandMeasurement& m, const BandMeasurementInput& given, cons
 
 }  // namespace
 
+namespace {
+
+json bands_json(const FitRequest& request, const MeasuredPhotometry& data, const std::vector<BandFit>& fits) {
+  json bands = json::array();
+  for (std::size_t b = 0; b < data.bands.size(); ++b) {
+    bands.push_back(band_json(data.bands[b], request.photometry->input.measurements[b], fits[b]));
+  }
+  return bands;
+}
+
+}  // namespace
+
 nlohmann::ordered_json make_fit_response(const FitRequest& request, const MeasuredSpectrum& spectrum, const PlanckFitResult& fit,
                        const DerivedQuantities& derived) {
-  json input = {{"x_unit", spectrum.x_unit.text},
-                {"y_unit", spectrum.y_unit.text},
-                {"convention", std::string(convention_name(spectrum.y_unit.convention)) +
-                                   (spectrum.y_unit.per_steradian ? ", per steradian" : "")}};
-  return response_document(request, spectrum.y_unit, fit, derived, statistics_json(request, spectrum, fit),
-                           std::move(input), std::nullopt);
+  return response_document(request, spectrum.y_unit, fit, derived, spectrum_statistics(request, spectrum, goodness_of(fit)),
+                           spectrum_input(spectrum), std::nullopt);
 }
 
 nlohmann::ordered_json make_photometry_response(const FitRequest& request, const MeasuredPhotometry& data,
                                                 const PhotometryFitResult& result, const FluxDensityUnit& unit,
                                                 const DerivedQuantities& derived) {
-  const PlanckFitResult& fit = result.fit;
-  json bands = json::array();
-  std::size_t nodes = 0;
-  for (std::size_t b = 0; b < data.bands.size(); ++b) {
-    bands.push_back(band_json(data.bands[b], request.photometry->input.measurements[b], result.bands[b]));
-    nodes += data.bands[b].quadrature.frequency_hz.size();
+  return response_document(request, unit, result.fit, derived, photometry_statistics(data, goodness_of(result.fit)),
+                           photometry_input(request, data, unit), bands_json(request, data, result.bands));
+}
+
+namespace {
+
+// ---- the model family's document ----------------------------------------------------------
+
+constexpr double kNominalSolarMass = 1.98840987e30;  // kg; IAU 2015 B3 nominal GM_sun / G (CODATA 2018 G)
+
+const char* parameter_unit(const ParameterInfo& info, const FluxDensityUnit& unit) {
+  if (!info.unit.empty()) return info.unit.c_str();
+  return unit.relative ? "relative" : unit.per_steradian ? "1" : "sr";
+}
+
+json parameter_json(const FittedParameter& p, const Estimate& e, const FluxDensityUnit& unit, const ModelSpec& spec) {
+  json doc = estimate_json(e, parameter_unit(p.info, unit));
+  if (spec.kind == ModelKind::kPlanck && p.info.role == ParameterRole::kScale) {
+    doc["meaning"] = scale_json(e, unit)["meaning"];
+  } else {
+    doc["meaning"] = p.info.meaning;
   }
-  json statistics = {{"chi_square", optional_number(fit.chi_square)},
-                     {"degrees_of_freedom", fit.degrees_of_freedom},
-                     {"reduced_chi_square", nullptr},
-                     {"p_value", optional_number(fit.p_value)},
-                     {"bands_given", data.bands.size()},
-                     {"detections", data.detections},
-                     {"upper_limits", data.upper_limits},
-                     {"points_used", fit.points_used},
-                     {"errors", fit.errors_estimated ? "estimated from the residuals" : "given"}};
-  if (fit.chi_square && fit.degrees_of_freedom > 0) statistics["reduced_chi_square"] = *fit.chi_square / fit.degrees_of_freedom;
-  if (fit.errors_estimated) statistics["residual_scatter"] = {{"value", fit.residual_scatter_si}, {"unit", "fraction of flux"}};
-  if (data.upper_limits > 0) {
-    statistics["upper_limit_terms"] = "chi_square includes -2 ln Phi((limit - model) / sigma) for each upper limit "
-                                      "(censored data, Sawicki 2012, PASP 124, 1208)";
+  doc["fixed"] = p.fixed;
+  doc["at_bound"] = p.at_bound;
+  if (!p.fixed) doc["bounds"] = {std::isfinite(p.lower) ? json(p.lower) : json(nullptr), std::isfinite(p.upper) ? json(p.upper) : json(nullptr)};
+  if (p.prior) doc["prior"] = {{"kind", "gaussian"}, {"mean", p.prior->mean}, {"sigma", p.prior->sigma}};
+  return doc;
+}
+
+// of_data names the peak of the data's convention, when the curve has one there.
+json peaks_json(const std::vector<PeakEstimate>& peaks, std::optional<Convention> of_data) {
+  json doc = json::object();
+  for (const PeakEstimate& peak : peaks) doc[peak.id] = peak_json(peak);
+  if (of_data && doc.contains(data_peak_id(*of_data))) doc["of_data"] = data_peak_id(*of_data);
+  return doc;
+}
+
+json model_correlation_json(const ModelFitResult& fit) {
+  if (!fit.covariance_available) return nullptr;
+  json names = json::array();
+  for (std::size_t p : fit.free) names.push_back(fit.parameters[p].info.name);
+  json matrix = json::array();
+  for (std::size_t a = 0; a < fit.free.size(); ++a) {
+    json row = json::array();
+    for (std::size_t b = 0; b < fit.free.size(); ++b) row.push_back(fit.correlation_at(a, b));
+    matrix.push_back(std::move(row));
   }
-  json input = {{"photometry", data.bands.size()},
-                {"convention", std::string(convention_name(unit.convention)) + (unit.per_steradian ? ", per steradian" : "") +
-                                   " (each band's quoted flux density)"},
-                {"band_integration", "product integration through each band's response: " + std::to_string(nodes) +
-                                         " nodes in all (Gauss-Legendre in ln wavelength)"},
-                {"systematic_error", request.photometry->input.systematic_fraction}};
-  return response_document(request, unit, fit, derived, std::move(statistics), std::move(input), std::move(bands));
+  return {{"parameters", std::move(names)},
+          {"matrix", std::move(matrix)},
+          {"space", "ln of the positive parameters (temperatures, scales, frequencies), beta and color_excess as they "
+                    "are: the fitted parameters"}};
+}
+
+json model_derived_json(const ModelQuantities& q) {
+  DerivedQuantities d;
+  d.bolometric_flux_w_m2 = q.bolometric_flux_w_m2;
+  d.bolometric_radiance_w_m2_sr = q.bolometric_radiance_w_m2_sr;
+  d.angular_radius_rad = q.angular_radius_rad;
+  d.radius_m = q.radius_m;
+  d.luminosity_w = q.luminosity_w;
+  json doc = derived_json(d);
+  if (q.dust_mass_kg) {
+    doc["dust_mass"] = estimate_json(*q.dust_mass_kg, "kg");
+    doc["dust_mass"]["solar_masses"] = q.dust_mass_kg->value / kNominalSolarMass;
+  }
+  return doc;
+}
+
+json components_json(const ModelQuantities& q, const FluxDensityUnit& unit) {
+  json list = json::array();
+  const char* labels[] = {"cooler", "warmer"};
+  for (std::size_t c = 0; c < q.components.size(); ++c) {
+    const ComponentQuantities& component = q.components[c];
+    json doc = {{"component", labels[c]},
+                {"temperature", estimate_json(component.temperature_k, "K")},
+                {"peaks", peaks_json(component.peaks, std::nullopt)}};
+    if (!unit.relative) {
+      doc["bolometric_flux"] = estimate_json(component.bolometric_flux, unit.per_steradian ? "W/m2/sr" : "W/m2");
+      doc["share_of_bolometric_flux"] = component.share;
+    }
+    if (component.angular_radius_rad) doc["angular_radius"] = estimate_json(*component.angular_radius_rad, "mas", kMilliarcsecondsPerRadian);
+    list.push_back(std::move(doc));
+  }
+  return list;
+}
+
+json frames_json(const ModelFitResult& fit, const ModelQuantities& q) {
+  json observed = json::object(), rest = json::object();
+  std::size_t t = 0;
+  for (std::size_t i = 0; i < fit.parameters.size(); ++i) {
+    const FittedParameter& p = fit.parameters[i];
+    if (p.info.role != ParameterRole::kTemperature) continue;
+    rest[p.info.name] = estimate_json(q.parameters[i], "K");
+    if (t < q.observed_temperatures_k.size()) observed[p.info.name] = estimate_json(q.observed_temperatures_k[t++], "K");
+  }
+  return {{"redshift", fit.spec.redshift},
+          {"rest", {{"meaning", "in the source's rest frame: the fitted parameters (temperatures, beta, turnover_frequency)"},
+                    {"temperatures", rest},
+                    {"peaks", peaks_json(q.rest_frame_peaks, std::nullopt)}}},
+          {"observed", {{"meaning", "as observed: a black body at T stays one at T / (1 + z) with the same solid angle; "
+                                    "the response's peaks and bolometric flux are observed-frame"},
+                        {"temperatures", observed}}}};
+}
+
+json extinction_json(const ExtinctionSpec& e) {
+  const ExtinctionLawInfo& info = extinction_law_info(e.law);
+  return {{"law", info.id},
+          {"citation", info.citation},
+          {"r_v", e.r_v},
+          {"frame", e.frame == ExtinctionFrame::kObserved ? "observed" : "rest"},
+          {"range_um", extinction_range_um(info)},
+          {"meaning", "F_observed = F_intrinsic 10^(-0.4 color_excess r_v A_lambda/A_V); peaks and bolometric fluxes are "
+                      "of the intrinsic (dereddened) curve"}};
+}
+
+json model_document(const FitRequest& request, const FluxDensityUnit& unit, Convention data_convention,
+                    const ModelFitResult& fit, const ModelQuantities& q, json statistics, json input, std::optional<json> bands) {
+  json response;
+  if (request.id) response["id"] = *request.id;
+  response["model"] = request.model.kind_name;
+  response["status"] = fit.converged ? "converged" : "not_converged";
+  json parameters = json::object();
+  for (std::size_t i = 0; i < fit.parameters.size(); ++i) {
+    parameters[fit.parameters[i].info.name] = parameter_json(fit.parameters[i], q.parameters[i], unit, fit.spec);
+  }
+  response["parameters"] = std::move(parameters);
+  response["correlation"] = model_correlation_json(fit);
+  response["peaks"] = peaks_json(q.peaks, data_convention);
+  if (!q.components.empty()) response["components"] = components_json(q, unit);
+  if (fit.spec.redshift > 0.0) response["frames"] = frames_json(fit, q);
+  if (fit.spec.extinction) response["extinction"] = extinction_json(*fit.spec.extinction);
+  response["derived"] = model_derived_json(q);
+  if (bands) response["bands"] = std::move(*bands);
+  if (fit.prior_chi_square > 0.0 || std::any_of(fit.parameters.begin(), fit.parameters.end(), [](const FittedParameter& p) { return p.prior.has_value(); })) {
+    statistics["prior_chi_square"] = fit.prior_chi_square;
+    statistics["priors"] = "each Gaussian prior adds ((value - mean) / sigma)^2 to the minimised sum; chi_square and "
+                           "p_value are of the data alone";
+  }
+  response["statistics"] = std::move(statistics);
+  response["intervals"] = {
+      {"method", "covariance"},
+      {"description", "linearised (Gaussian) errors from the covariance matrix of the free parameters; intervals are "
+                      "Gaussian in the logarithm of each positive quantity (symmetric for beta and color_excess), at 1 "
+                      "and 2 sigma; derived quantities by the delta method"},
+      {"levels", {{"interval_68", 0.682689492137086}, {"interval_95", 0.954499736103642}}}};
+  response["input"] = std::move(input);
+  response["solver"] = {{"termination", fit.termination}, {"iterations", fit.iterations}, {"message", fit.solver_message}};
+  response["warnings"] = warnings_json(fit.warnings);
+  if (!q.notes.empty()) response["notes"] = q.notes;
+  response["provenance"] = provenance_json();
+  return response;
+}
+
+}  // namespace
+
+nlohmann::ordered_json make_model_response(const FitRequest& request, const MeasuredSpectrum& spectrum,
+                                           const ModelFitResult& fit, const ModelQuantities& quantities) {
+  return model_document(request, spectrum.y_unit, spectrum.y_unit.convention, fit, quantities,
+                        spectrum_statistics(request, spectrum, goodness_of(fit)), spectrum_input(spectrum), std::nullopt);
+}
+
+nlohmann::ordered_json make_model_photometry_response(const FitRequest& request, const MeasuredPhotometry& data,
+                                                      const std::vector<BandFit>& bands, const FluxDensityUnit& unit,
+                                                      const ModelFitResult& fit, const ModelQuantities& quantities) {
+  return model_document(request, unit, unit.convention, fit, quantities, photometry_statistics(data, goodness_of(fit)),
+                        photometry_input(request, data, unit), bands_json(request, data, bands));
 }
 
 }  // namespace planckton::api

@@ -32,4 +32,14 @@ nlohmann::ordered_json make_photometry_response(const FitRequest& request, const
                                                 const PhotometryFitResult& result, const FluxDensityUnit& unit,
                                                 const DerivedQuantities& derived);
 
+// The document of a fit of the model family (science/model_fit.h): every parameter with its unit,
+// interval, bounds, prior and whether it was fixed; the correlation matrix of the free ones;
+// peaks of the intrinsic curve; "components" (two temperatures), "frames" (a redshift) and
+// "extinction" (the law applied) when they apply; dust mass among the derived quantities.
+nlohmann::ordered_json make_model_response(const FitRequest& request, const MeasuredSpectrum& spectrum,
+                                           const ModelFitResult& fit, const ModelQuantities& quantities);
+nlohmann::ordered_json make_model_photometry_response(const FitRequest& request, const MeasuredPhotometry& data,
+                                                      const std::vector<BandFit>& bands, const FluxDensityUnit& unit,
+                                                      const ModelFitResult& fit, const ModelQuantities& quantities);
+
 }  // namespace planckton::api

@@ -35,17 +35,26 @@ ProblemError problem_for(const InputError& error);
 void apply_limits(const ServiceLimits& limits, FitRequest& request);
 
 // Everything a fit produced, for the representations other than the JSON document (SVG plots, CSV
-// of the model on the data's grid). One of spectrum / photometry is set, with its fit.
+// of the model on the data's grid). One of spectrum / photometry is set. A plain Planck fit fills
+// `fit` and `derived`; a fit of the model family fills `model_fit` and `model_quantities`; both fill
+// `photometry_fit->bands` for photometry.
 struct FitOutcome {
   FitRequest request;  // owns the inline passbands the photometry points to
   std::optional<MeasuredSpectrum> spectrum;
   std::optional<MeasuredPhotometry> photometry;
-  PlanckFitResult fit;                 // the estimate (for photometry: photometry_fit->fit)
+  PlanckFitResult fit;                 // plain Planck fits (for photometry: photometry_fit->fit)
   std::optional<PhotometryFitResult> photometry_fit;
+  std::optional<ModelFitResult> model_fit;
+  std::optional<ModelQuantities> model_quantities;
   FluxDensityUnit unit;                // of the data; Jy or MJy/sr for photometry
   DerivedQuantities derived;
   nlohmann::ordered_json response;     // the JSON document
 };
+
+// The fitted curve as observed (extinction included) in a convention at a frequency, with the
+// linearised sigma of its logarithm; value NaN where the model is not defined (outside an extinction
+// law's range).
+ModelPoint outcome_curve(const FitOutcome& outcome, Convention convention, double frequency_hz);
 
 // A parsed request -> everything the fit produced.
 FitOutcome fit_outcome(FitRequest request, const ServiceLimits& limits = {});
@@ -65,7 +74,8 @@ nlohmann::ordered_json fit_table_text(std::string_view text, const TableRequestO
                                       const nlohmann::json& extra_request_members, const ServiceLimits& limits = {});
 
 // A table with its settings as named text parameters, as query parameters (HTTP) or flags (CLI)
-// give them: x_unit, y_unit, x_column, y_column, error_column, model, loss, loss_scale, exclude
+// give them: x_unit, y_unit, x_column, y_column, error_column, model (kind), opacity, redshift,
+// extinction (law), r_v, fix (NAME:VALUE, repeatable: a fixed parameter), loss, loss_scale, exclude
 // (LO:HI, repeatable), distance ("VALUE UNIT"), temperature_min, temperature_max,
 // time_budget_seconds, systematic_error. Problems with a parameter name it. A table whose first
 // column is `band` is photometry (table_reader.h), fitted through the bands; the spectrum's
@@ -78,8 +88,8 @@ FitOutcome fit_table_outcome(std::string_view text, const TableParameters& param
 
 // A FITS file (fits_reader.h) with its settings as named parameters: those of FitsOptions (hdu,
 // x_column, y_column, error_column, error_hdu, x_unit, y_unit) and the table parameters that are not
-// about columns and units (model, loss, loss_scale, exclude, distance, temperature_min,
-// temperature_max, time_budget_seconds, systematic_error). The response's input gains "fits": the
+// about columns and units (model, opacity, redshift, extinction, r_v, fix, loss, loss_scale, exclude,
+// distance, temperature_min, temperature_max, time_budget_seconds, systematic_error). The response's input gains "fits": the
 // reader's notes on what was read and converted.
 nlohmann::ordered_json fit_fits(std::string_view bytes, const TableParameters& parameters, const ServiceLimits& limits = {});
 FitOutcome fit_fits_outcome(std::string_view bytes, const TableParameters& parameters, const ServiceLimits& limits = {});

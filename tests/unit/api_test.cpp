@@ -258,7 +258,7 @@ TEST(Api, RequestIsParsedIntoTheScienceStructs) {
   ASSERT_EQ(parsed.spectrum.exclude.size(), 1u);
   EXPECT_EQ(parsed.spectrum.exclude[0][0], 500.0);
   EXPECT_EQ(parsed.spectrum.exclude[0][1], 510.0);
-  EXPECT_EQ(parsed.model_kind, "planck");
+  EXPECT_EQ(parsed.model.kind_name, "planck");
   EXPECT_EQ(parsed.fit_options.min_temperature_k, 100.0);
   EXPECT_EQ(parsed.fit_options.max_temperature_k, 20000.0);
   EXPECT_EQ(parsed.fit_options.loss, planckton::RobustLoss::kHuber);
@@ -276,7 +276,7 @@ TEST(Api, DefaultsWhenOptionsAreAbsent) {
   // Source: planck_fit.h defaults.
   const auto parsed = planckton::api::parse_fit_request(valid_request(10));
   const planckton::PlanckFitOptions defaults;
-  EXPECT_EQ(parsed.model_kind, "planck");
+  EXPECT_EQ(parsed.model.kind_name, "planck");
   EXPECT_EQ(parsed.fit_options.min_temperature_k, defaults.min_temperature_k);
   EXPECT_EQ(parsed.fit_options.max_temperature_k, defaults.max_temperature_k);
   EXPECT_EQ(parsed.fit_options.loss, planckton::RobustLoss::kNone);
@@ -422,10 +422,10 @@ TEST(ApiProblems, UnknownDistanceUnit) {
 TEST(ApiProblems, UnknownModelKind) {
   // Source: fit_request.h (unknown models).
   json request = valid_request(10);
-  request["model"] = {{"kind", "modified_black_body"}};
+  request["model"] = {{"kind", "synchrotron"}};
   const Problem p = problem_of_document(request);
   expect_invalid_at(p, "/model/kind");
-  EXPECT_EQ(p.accepted, std::vector<std::string>{"planck"});
+  EXPECT_EQ(p.accepted, (std::vector<std::string>{"planck", "diluted_planck", "modified_black_body", "two_temperature"}));
 }
 
 TEST(ApiProblems, UnknownOption) {
@@ -862,3 +862,93 @@ TEST(ApiTables, ExtraMembersAreMerged) {
 }
 
 }  // namespace
+
+// ---- the model family (model_request.h, fit_response.cpp's model document) ------------------
+
+namespace {
+
+json with_model(const json& model) {
+  json request = valid_request(60);
+  request["model"] = model;
+  return request;
+}
+
+}  // namespace
+
+TEST(ApiModels, PlainPlanckTakesTheDedicatedFitAndAnythingElseTheModelFamily) {
+  // Source: model_request.h (ModelRequest::plain).
+  EXPECT_TRUE(planckton::api::parse_fit_request(valid_request(10)).model.plain());
+  EXPECT_TRUE(planckton::api::parse_fit_request(with_model({{"kind", "planck"}})).model.plain());
+  EXPECT_FALSE(planckton::api::parse_fit_request(with_model({{"kind", "planck"}, {"redshift", 0.1}})).model.plain());
+  EXPECT_FALSE(planckton::api::parse_fit_request(
+                   with_model({{"kind", "planck"}, {"parameters", {{"temperature", {{"initial", 5000}}}}}}))
+                   .model.plain());
+  // The same spectrum gives the same temperature through both paths (the controls change nothing).
+  const json plain = planckton::api::fit_document(valid_request(60));
+  const json family = planckton::api::fit_document(
+      with_model({{"kind", "planck"}, {"parameters", {{"temperature", {{"initial", 3000}}}}}}));
+  EXPECT_TRUE(RelativelyNear(family["parameters"]["temperature"]["value"].get<double>(),
+                             plain["parameters"]["temperature"]["value"].get<double>(), 1e-7));
+  EXPECT_TRUE(RelativelyNear(family["parameters"]["temperature"]["error"].get<double>(),
+                             plain["parameters"]["temperature"]["error"].get<double>(), 1e-4));
+  EXPECT_TRUE(RelativelyNear(family["peaks"]["wavelength"]["value"].get<double>(),
+                             plain["peaks"]["wavelength"]["value"].get<double>(), 1e-7));
+  EXPECT_EQ(family["parameters"]["temperature"]["fixed"], false);
+}
+
+TEST(ApiModels, BadModelMembersNameTheirPointer) {
+  // Source: model_request.h (validation is strict, with the pointer of the offending value).
+  const std::vector<std::pair<json, std::string>> cases = {
+      {{{"kind", "planck"}, {"opacity", "thin"}}, "/model/opacity"},
+      {{{"kind", "modified_black_body"}, {"opacity", "thick"}}, "/model/opacity"},
+      {{{"kind", "planck"}, {"extinction", {{"law", "galactic"}}}}, "/model/extinction/law"},
+      {{{"kind", "planck"}, {"extinction", {{"law", "cardelli1989"}, {"r_v", -1}}}}, "/model/extinction/r_v"},
+      {{{"kind", "planck"}, {"extinction", {{"law", "cardelli1989"}, {"frame", "host"}}}}, "/model/extinction/frame"},
+      {{{"kind", "planck"}, {"redshift", -0.5}}, "/model/redshift"},
+      {{{"kind", "planck"}, {"parameters", {{"beta", {{"fixed", 2}}}}}}, "/model/parameters/beta"},
+      {{{"kind", "planck"}, {"parameters", {{"temperature", {{"fixed", 2}, {"initial", 3}}}}}},
+       "/model/parameters/temperature/fixed"},
+      {{{"kind", "planck"}, {"parameters", {{"temperature", {{"bounds", {9000, 3000}}}}}}},
+       "/model/parameters/temperature/bounds"},
+      {{{"kind", "planck"}, {"parameters", {{"temperature", {{"prior", {{"mean", 5000}, {"sigma", 0}}}}}}}},
+       "/model/parameters/temperature/prior/sigma"},
+      {{{"kind", "diluted_planck"}, {"angular_radius", {{"value", 1}, {"unit", "furlong"}}}}, "/model/angular_radius/unit"},
+      {{{"kind", "diluted_planck"}, {"radius", {{"value", 7e8}, {"unit", "m"}}}}, "/model/radius"},
+      {{{"kind", "modified_black_body"}, {"dust_opacity", {{"value", 0.1}, {"unit", "m2/g"}, {"at", {{"value", 1}, {"unit", "THz"}}}}}},
+       "/model/dust_opacity/unit"},
+      {{{"kind", "modified_black_body"}, {"opacity", "general"}, {"reference_frequency", {{"value", 1}, {"unit", "THz"}}}},
+       "/model/reference_frequency"},
+  };
+  for (const auto& [model, pointer] : cases) {
+    expect_invalid_at(problem_of_document(with_model(model)), pointer);
+  }
+}
+
+TEST(ApiModels, ExtinctionOutsideItsLawsRangeIsRefusedWithTheRange) {
+  // Source: extinction.h (CCM89 is defined from 0.1 to 3.33 um; planckton refuses, never extrapolates).
+  json request = valid_request(60);
+  request["spectrum"]["x"] = json::array();
+  for (int i = 0; i < 60; ++i) request["spectrum"]["x"].push_back(4000.0 + 10.0 * i);  // nm: 4-4.6 um
+  request["model"] = {{"kind", "planck"}, {"extinction", {{"law", "cardelli1989"}}}};
+  const Problem p = problem_of_document(request);
+  expect_invalid_at(p, "/model/extinction");
+  EXPECT_NE(p.detail.find("um"), std::string::npos) << p.detail;
+}
+
+TEST(ApiModels, ModelDocumentLabelsFramesComponentsAndExtinction) {
+  // Source: fit_response.cpp (model_document).
+  const json reddened = planckton::api::fit_document(
+      with_model({{"kind", "planck"}, {"redshift", 0.2}, {"extinction", {{"law", "fitzpatrick1999"}, {"r_v", 3.1}}}}));
+  EXPECT_EQ(reddened["model"], "planck");
+  EXPECT_TRUE(reddened["parameters"].contains("color_excess"));
+  EXPECT_EQ(reddened["parameters"]["color_excess"]["unit"], "mag");
+  EXPECT_EQ(reddened["extinction"]["law"], "fitzpatrick1999");
+  EXPECT_EQ(reddened["frames"]["redshift"], 0.2);
+  EXPECT_TRUE(RelativelyNear(reddened["frames"]["observed"]["temperatures"]["temperature"]["value"].get<double>(),
+                             reddened["parameters"]["temperature"]["value"].get<double>() / 1.2, 1e-12));
+  EXPECT_EQ(reddened["correlation"]["parameters"].size(), 3u);
+  const json two = planckton::api::fit_document(with_model({{"kind", "two_temperature"}}));
+  ASSERT_EQ(two["components"].size(), 2u);
+  EXPECT_EQ(two["components"][0]["component"], "cooler");
+  for (const auto& warning : two["warnings"]) EXPECT_TRUE(warning["code"].is_string());
+}
