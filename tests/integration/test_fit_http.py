@@ -167,20 +167,82 @@ def fits(server):
 
 
 def endpoints(server, fit_doc):
-    # GET /v1/models
+    # GET /v1/models: the model family, each kind with its parameters per variant, the modifiers
+    # (extinction laws with their published ranges, redshift), parameter control and the options.
     r = http("GET", server, "/v1/models")
     doc = check_fit_answer("GET /v1/models", r)
     if doc is not None:
-        models = doc.get("models")
-        planck = [m for m in models if isinstance(m, dict) and m.get("kind") == "planck"] if isinstance(models, list) else []
-        checks.check("GET /v1/models: lists the planck model with description, parameters and options",
-                     len(planck) == 1 and isinstance(planck[0].get("description"), str)
-                     and isinstance(planck[0].get("parameters"), list) and isinstance(planck[0].get("options"), list),
-                     json.dumps(doc)[:300])
-        if planck:
-            names = flatten_strings(planck[0].get("parameters"))
-            checks.check("GET /v1/models: planck's parameters name temperature and scale",
-                         "temperature" in names and "scale" in names, names[:20])
+        models = doc.get("models") if isinstance(doc.get("models"), list) else []
+        by_kind = {m.get("kind"): m for m in models if isinstance(m, dict)}
+        kinds = [m.get("kind") for m in models if isinstance(m, dict)]
+        checks.check("GET /v1/models: lists the four kinds of the model family, in order",
+                     kinds == ["planck", "diluted_planck", "modified_black_body", "two_temperature"], kinds)
+        # The parameters each variant fits, in order, as the request's model.parameters and the
+        # response's parameters name them.
+        expected = {
+            "planck": [["temperature", "scale"]],
+            "diluted_planck": [["temperature", "dilution_factor"], ["temperature", "angular_radius_dilution"]],
+            "modified_black_body": [["temperature", "scale", "beta"], ["temperature", "scale", "beta", "turnover_frequency"]],
+            "two_temperature": [["temperature_1", "scale_1", "temperature_2", "scale_2"]],
+        }
+        for kind, variants_expected in expected.items():
+            model = by_kind.get(kind) or {}
+            variants = model.get("variants") if isinstance(model.get("variants"), list) else []
+            names = [[p.get("name") for p in v.get("parameters", []) if isinstance(p, dict)]
+                     for v in variants if isinstance(v, dict)]
+            checks.check(f"GET /v1/models: {kind} has a description and its parameters per variant",
+                         isinstance(model.get("description"), str) and model.get("description")
+                         and names == variants_expected
+                         and all(isinstance(v.get("when"), str) and v.get("when") for v in variants),
+                         f"variants {names}")
+            parameters = [p for v in variants if isinstance(v, dict) for p in v.get("parameters", [])]
+            well_formed = all(isinstance(p, dict) and isinstance(p.get("unit"), str) and p.get("unit")
+                              and isinstance(p.get("meaning"), str) and isinstance(p.get("fitted_as"), str)
+                              and isinstance(p.get("default_bounds"), list) and len(p["default_bounds"]) == 2
+                              for p in parameters)
+            checks.check(f"GET /v1/models: {kind}'s parameters each have a unit, meaning, fitted_as and default bounds",
+                         parameters and well_formed, json.dumps(parameters)[:300])
+            checks.check(f"GET /v1/models: {kind} fits spectra and photometry",
+                         model.get("data") == ["spectrum", "photometry"], model.get("data"))
+        temperatures = [p for m in models if isinstance(m, dict) for v in m.get("variants", []) if isinstance(v, dict)
+                        for p in v.get("parameters", []) if isinstance(p, dict) and str(p.get("name", "")).startswith("temperature")]
+        checks.check("GET /v1/models: every temperature is in K, fitted as its logarithm, default bounds [0.1, 1e9]",
+                     temperatures and all(p.get("unit") == "K" and p.get("fitted_as") == "ln " + p.get("name")
+                                          and p.get("default_bounds") == [0.1, 1e9] for p in temperatures),
+                     json.dumps(temperatures)[:300])
+        if fit_doc is not None and "planck" in by_kind:
+            variant = (by_kind["planck"].get("variants") or [{}])[0]
+            checks.check("GET /v1/models: planck's parameters are those a plain fit answers",
+                         [p.get("name") for p in variant.get("parameters", [])] == list(fit_doc.get("parameters", {})),
+                         f"fit answers {list(fit_doc.get('parameters', {}))}")
+
+        # Extinction: the four laws with their published wavelength ranges (um) and default R_V.
+        modifiers = doc.get("modifiers") if isinstance(doc.get("modifiers"), dict) else {}
+        extinction = modifiers.get("extinction") if isinstance(modifiers.get("extinction"), dict) else {}
+        laws = {law.get("law"): law for law in extinction.get("laws", []) if isinstance(law, dict)}
+        published = {"cardelli1989": ([0.1, 10 / 3], 3.1), "odonnell1994": ([0.1, 10 / 3], 3.1),
+                     "fitzpatrick1999": ([0.091, 6.0], 3.1), "calzetti2000": ([0.12, 2.2], 4.05)}
+        checks.check("GET /v1/models: extinction lists the four laws", sorted(laws) == sorted(published), sorted(laws))
+        for law, (range_um, r_v) in published.items():
+            entry = laws.get(law) or {}
+            got = entry.get("range_um")
+            ok = (isinstance(got, list) and len(got) == 2 and all(isinstance(v, (int, float)) for v in got)
+                  and all(abs(a - b) <= 1e-9 * abs(b) for a, b in zip(got, range_um))
+                  and entry.get("default_r_v") == r_v and isinstance(entry.get("citation"), str) and entry.get("citation"))
+            checks.check(f"GET /v1/models: {law} with its range {range_um[0]:g}-{range_um[1]:.4g} um, default R_V {r_v} and a citation",
+                         ok, json.dumps(entry)[:200])
+        checks.check("GET /v1/models: extinction adds color_excess; redshift is described",
+                     "color_excess" in str(extinction.get("adds_parameter"))
+                     and isinstance((modifiers.get("redshift") or {}).get("meaning"), str), json.dumps(modifiers)[:200])
+        control = doc.get("parameter_control") if isinstance(doc.get("parameter_control"), dict) else {}
+        checks.check("GET /v1/models: parameter control names fixed, bounds, prior and initial",
+                     all(word in str(control.get("member")) for word in ("fixed", "bounds", "prior", "initial")),
+                     control.get("member"))
+        options = [o.get("name") for o in doc.get("options", []) if isinstance(o, dict)] if isinstance(doc.get("options"), list) else []
+        checks.check("GET /v1/models: the options with their defaults",
+                     options == ["temperature_bounds", "loss", "distance", "max_iterations", "time_budget_seconds",
+                                 "systematic_error"] and all("default" in o for o in doc["options"])
+                     and isinstance(doc.get("method"), str), options)
         schema.check(checks, "GET /v1/models: matches the OpenAPI schema", doc, "/v1/models", "get", 200,
                      "application/json")
 
