@@ -6,7 +6,11 @@ The photometry samples too ("photometry_samples" of truth.json): make_samples.py
 true spectrum through the same response curves with the definitions of Bessell & Murphy 2012 (PASP
 124, 140, appendix A) and each band's convention as planckton quotes it, by its own trapezoid rule;
 so besides the truth within the 95 % interval of the noisy sample, the noise-free band values
-recorded in truth.json must give back the true temperature to a small fraction of its error."""
+recorded in truth.json must give back the true temperature to a small fraction of its error.
+
+The model family ("model_samples" of truth.json): every true parameter of each model (extinction,
+modified black body with its dust mass, two temperatures, diluted photosphere, redshift) within the
+reported 95 % interval, and the reddened star's CSV with --extinction giving the JSON's document."""
 import argparse
 import json
 import os
@@ -130,5 +134,45 @@ for sample in truth.get("photometry_samples", []):
                      abs(ct["value"] - true_t) <= tolerance,
                      f"fit {ct['value']:.6f} K, true {true_t} K, off by {(ct['value'] - true_t) / ct['error']:+.2e} "
                      f"sigma (allowed {tolerance:.2e} K)")
+
+
+# The model family ("model_samples" of truth.json): one request per model, each true parameter (in the
+# units of GET /v1/models) within the reported 95 % interval, and what each model derives.
+for sample in truth.get("model_samples", []):
+    name = f"{sample['name']} ({sample['kind']})"
+    code, doc, err = run_cli(args.cli, ["fit", os.path.join(args.samples, sample["json"])])
+    checks.check(f"{name}: JSON request fits", code == 0 and doc is not None, err.strip())
+    if doc is None:
+        continue
+    checks.check(f"{name}: model {sample['kind']}, converged", doc["model"] == sample["kind"] and doc["status"] == "converged",
+                 f"{doc['model']}, {doc['status']}")
+    for parameter, true_value in sample["parameters"].items():
+        p = doc["parameters"][parameter]
+        lo, hi = p["interval_95"]
+        checks.check(f"{name}: true {parameter} {true_value:.6g} {p['unit']} within the 95 % interval",
+                     lo <= true_value <= hi and p["unit"] == sample["parameter_units"][parameter],
+                     f"fit {p['value']:.6g} +- {p['error']:.3g} {p['unit']}, interval [{lo:.6g}, {hi:.6g}]")
+    if "dust_mass_kg" in sample:
+        m = doc["derived"].get("dust_mass")
+        checks.check(f"{name}: true dust mass within the 95 % interval",
+                     m is not None and m["interval_95"][0] <= sample["dust_mass_kg"] <= m["interval_95"][1],
+                     f"fit {m['value']:.4e} kg, true {sample['dust_mass_kg']:.4e} kg" if m else "no derived.dust_mass")
+    if "radius_m" in sample and "distance" in sample.get("options", {}):
+        r = doc["derived"]["radius"]
+        checks.check(f"{name}: true radius within the 95 % interval",
+                     r["interval_95"][0] <= sample["radius_m"] <= r["interval_95"][1],
+                     f"fit {r['value']:.4e} m, true {sample['radius_m']:.4e} m")
+    if "observed_temperature_K" in sample:
+        t = doc["frames"]["observed"]["temperatures"]["temperature"]
+        checks.check(f"{name}: true observed temperature T / (1 + z) within the 95 % interval",
+                     t["interval_95"][0] <= sample["observed_temperature_K"] <= t["interval_95"][1],
+                     f"fit {t['value']:.1f} K, true {sample['observed_temperature_K']:.1f} K")
+    if sample.get("csv"):
+        code, table_doc, err = run_cli(args.cli, ["fit", os.path.join(args.samples, sample["csv"]),
+                                                  *sample["cli_flags"].split()])
+        checks.check(f"{name}: CSV table with {sample['cli_flags']} fits", code == 0 and table_doc is not None, err.strip())
+        if table_doc is not None:
+            checks.check(f"{name}: CSV and JSON give the same document",
+                         json.dumps(table_doc, sort_keys=True) == json.dumps(doc, sort_keys=True))
 
 checks.finish()
