@@ -28,6 +28,16 @@ std::unique_ptr<ceres::LossFunction> make_loss(RobustLoss loss, double scale) {
   return nullptr;
 }
 
+double robust_rho(RobustLoss loss, double scale, double s) {
+  const double b = scale * scale;
+  switch (loss) {
+    case RobustLoss::kNone: return s;
+    case RobustLoss::kHuber: return s > b ? 2.0 * std::sqrt(b * s) - b : s;
+    case RobustLoss::kCauchy: return b * std::log1p(s / b);
+  }
+  return s;
+}
+
 std::string termination_name(const ceres::Solver::Summary& summary) {
   switch (summary.termination_type) {
     case ceres::CONVERGENCE:

@@ -23,6 +23,10 @@ ceres::Solver::Options solver_options(int max_iterations, double time_budget_sec
 // Huber or Cauchy (ceres/loss_function.h) with the given scale; null for plain least squares.
 std::unique_ptr<ceres::LossFunction> make_loss(RobustLoss loss, double scale);
 
+// rho(s) of the loss for a squared residual s, as Ceres defines it (loss_function.h): the robust
+// cost a fit reports.
+double robust_rho(RobustLoss loss, double scale, double s);
+
 // "converged", "time_limit", "iteration_limit" or "failed".
 std::string termination_name(const ceres::Solver::Summary& summary);
 

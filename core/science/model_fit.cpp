@@ -574,17 +574,6 @@ double median_absolute_residual(const ItemModel& model, const std::vector<double
   return *middle;
 }
 
-// rho(s) of the loss for a squared residual s, as Ceres defines it (loss_function.h).
-double robust_rho(RobustLoss loss, double scale, double s) {
-  const double b = scale * scale;
-  switch (loss) {
-    case RobustLoss::kNone: return s;
-    case RobustLoss::kHuber: return s > b ? 2.0 * std::sqrt(b * s) - b : s;
-    case RobustLoss::kCauchy: return b * std::log1p(s / b);
-  }
-  return s;
-}
-
 void warn(ModelFitResult& result, std::string code, std::string message) {
   result.warnings.push_back({std::move(code), std::move(message)});
 }
@@ -920,7 +909,7 @@ ModelFitResult fit_model(const ModelData& data, const ModelSpec& spec, const Mod
     const double f = fitted[static_cast<Eigen::Index>(j)];
     const double r = model.residual(j, f, sigma).value;
     chi_square += r * r;
-    if (robust) result.robust_cost += robust_rho(options.solver.loss, options.solver.loss_scale, r * r);
+    if (robust) result.robust_cost += ceres_settings::robust_rho(options.solver.loss, options.solver.loss_scale, r * r);
     result.items.push_back({model.in_item_space(j, f), r});
   }
   result.points_used = data.items.size();

@@ -102,17 +102,6 @@ struct PlanckTinyProblem {
   }
 };
 
-// rho(s) of the loss for a squared residual s, as Ceres defines it (loss_function.h).
-double robust_rho(RobustLoss loss, double scale, double s) {
-  const double b = scale * scale;
-  switch (loss) {
-    case RobustLoss::kNone: return s;
-    case RobustLoss::kHuber: return s > b ? 2.0 * std::sqrt(b * s) - b : s;
-    case RobustLoss::kCauchy: return b * std::log1p(s / b);
-  }
-  return s;
-}
-
 std::vector<std::size_t> evenly_spaced_subsample(const MeasuredSpectrum& spectrum, std::size_t count) {
   std::vector<std::size_t> order(spectrum.size());
   std::iota(order.begin(), order.end(), 0);
@@ -155,7 +144,7 @@ GridNode profile_scale(const PlanckKernel& kernel, const ProfileSums& sums, doub
     cost = 0.0;
     for (Eigen::Index k = 0; k < n; ++k) {
       const double r = t.weight[k] * (t.observed[k] - scale * f[k]);
-      cost += robust_rho(loss, loss_scale, r * r);
+      cost += ceres_settings::robust_rho(loss, loss_scale, r * r);
     }
   }
   return {log_temperature, usable ? std::log(scale) : -HUGE_VAL, usable ? cost : HUGE_VAL};
@@ -346,7 +335,7 @@ PlanckFitResult fit_planck(const MeasuredSpectrum& spectrum, const PlanckFitOpti
   kernel.residuals(0, residuals.size(), residuals.data());
   if (!general) outcome.covariance_available = gauss_newton_covariance(kernel, outcome.covariance);
   if (robust) {
-    for (double r : residuals) result.robust_cost += robust_rho(options.loss, options.loss_scale, r * r);
+    for (double r : residuals) result.robust_cost += ceres_settings::robust_rho(options.loss, options.loss_scale, r * r);
   }
   const double residual_variance = summarise(outcome, parameters, bounds.log_t_min, bounds.log_t_max,
                                              residuals.square().sum(), n, spectrum.has_errors(), result);

@@ -23,30 +23,12 @@ namespace planckton {
 namespace {
 
 using testing::RelativelyNear;
+using testing::simulate_spectrum;
 
 constexpr double kC = constants::kSpeedOfLight;
 
 // A shape F_nu(nu) of the true source, in W m^-2 Hz^-1.
 using Source = std::function<double(double)>;
-
-// A spectrum in F_nu (W/m2/Hz) at wavelengths from lo to hi (um, log-spaced), with Gaussian noise of
-// the given relative size (fixed seed) and its errors.
-MeasuredSpectrum simulate_spectrum(const Source& source, double lo_um, double hi_um, int n, double relative_error,
-                                   unsigned seed) {
-  std::mt19937 random(seed);
-  std::normal_distribution<double> normal;
-  SpectrumInput input;
-  input.x_unit = "um";
-  input.y_unit = "W/m2/Hz";
-  for (int i = 0; i < n; ++i) {
-    const double um = lo_um * std::pow(hi_um / lo_um, static_cast<double>(i) / (n - 1));
-    const double f = source(kC / (um * 1e-6));
-    input.x.push_back(um);
-    input.y.push_back(f * (1.0 + relative_error * normal(random)));
-    input.y_error.push_back(f * relative_error);
-  }
-  return prepare_spectrum(input);
-}
 
 MeasuredPhotometry simulate_photometry(const Source& source, const std::vector<std::string>& ids, double relative_error,
                                        unsigned seed) {

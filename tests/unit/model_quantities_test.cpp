@@ -20,24 +20,8 @@ namespace planckton {
 namespace {
 
 using testing::RelativelyNear;
+using testing::simulate_spectrum;
 constexpr double kC = constants::kSpeedOfLight;
-
-MeasuredSpectrum spectrum_of(const std::function<double(double)>& f_nu, double lo_um, double hi_um, int n, double noise,
-                             unsigned seed, const std::string& y_unit = "W/m2/Hz") {
-  std::mt19937 random(seed);
-  std::normal_distribution<double> normal;
-  SpectrumInput input;
-  input.x_unit = "um";
-  input.y_unit = y_unit;
-  for (int i = 0; i < n; ++i) {
-    const double um = lo_um * std::pow(hi_um / lo_um, static_cast<double>(i) / (n - 1));
-    const double f = f_nu(kC / (um * 1e-6));
-    input.x.push_back(um);
-    input.y.push_back(f * (1.0 + noise * normal(random)));
-    input.y_error.push_back(f * noise);
-  }
-  return prepare_spectrum(input);
-}
 
 const PeakEstimate& peak(const std::vector<PeakEstimate>& peaks, const std::string& id) {
   for (const PeakEstimate& p : peaks) {
@@ -58,7 +42,7 @@ double bisect_peak_equation(double n) {
 
 TEST(ModelQuantities, PlanckKindAgreesWithTheClosedFormsOfThePlanckFit) {
   const MeasuredSpectrum s =
-      spectrum_of([](double nu) { return 3e-18 * planck_per_frequency(nu, 5200.0); }, 0.35, 2.0, 200, 0.01, 1);
+      simulate_spectrum([](double nu) { return 3e-18 * planck_per_frequency(nu, 5200.0); }, 0.35, 2.0, 200, 0.01, 1);
   const Distance distance{3.0857e18, 0.05};
   const PlanckFitResult plain = fit_planck(s, {});
   const DerivedQuantities reference = derive_quantities(plain, s.y_unit, distance);
@@ -85,7 +69,7 @@ TEST(ModelQuantities, ThinDustPeaksSolveTheShiftedWienEquation) {
     ModelFitOptions options;
     options.controls["beta"].fixed = beta;
     const double t = 25.0;
-    const MeasuredSpectrum s = spectrum_of(
+    const MeasuredSpectrum s = simulate_spectrum(
         [&](double nu) { return 1e-9 * std::pow(nu / 1e12, beta) * planck_per_frequency(nu, t); }, 40.0, 1000.0, 80, 0.01, 2);
     const ModelFitResult fit = fit_model(model_data(s), spec, options);
     const ModelQuantities q = derive_model_quantities(fit, s.y_unit, std::nullopt, std::nullopt);
@@ -104,7 +88,7 @@ TEST(ModelQuantities, GeneralOpacityPeakAndFluxMatchBruteForce) {
   spec.opacity = DustOpacity::kGeneral;
   const double t = 40.0, beta = 2.0, nu_t = 1.5e12, omega = 1e-10;
   const auto f_nu = [&](double nu) { return omega * -std::expm1(-std::pow(nu / nu_t, beta)) * planck_per_frequency(nu, t); };
-  const MeasuredSpectrum s = spectrum_of(f_nu, 30.0, 2000.0, 200, 1e-4, 3);
+  const MeasuredSpectrum s = simulate_spectrum(f_nu, 30.0, 2000.0, 200, 1e-4, 3);
   const ModelFitResult fit = fit_model(model_data(s), spec, {});
   const ModelQuantities q = derive_model_quantities(fit, s.y_unit, std::nullopt, std::nullopt);
   // Brute force on the true curve: the maximum of F_nu on a fine grid, and the integral by a fine
@@ -127,7 +111,7 @@ TEST(ModelQuantities, ThinDustFluxAndMassFollowTheirClosedForms) {
   spec.kind = ModelKind::kModifiedBlackBody;
   const double t = 18.0, beta = 1.8, omega = 3e-9;
   const auto f_nu = [&](double nu) { return omega * std::pow(nu / 1e12, beta) * planck_per_frequency(nu, t); };
-  const MeasuredSpectrum s = spectrum_of(f_nu, 50.0, 1500.0, 100, 1e-5, 4);
+  const MeasuredSpectrum s = simulate_spectrum(f_nu, 50.0, 1500.0, 100, 1e-5, 4);
   const ModelFitResult fit = fit_model(model_data(s), spec, {});
   // kappa = 0.1 m^2/kg at 1 THz (a value of the order used for dense cores; illustrative only).
   const Distance distance{4.6e18, 0.1};
@@ -153,7 +137,7 @@ TEST(ModelQuantities, TwoComponentsHaveTheirOwnFluxesAndPeaks) {
   spec.kind = ModelKind::kTwoTemperature;
   const double t1 = 3500.0, s1 = 4e-18, t2 = 11000.0, s2 = 2e-20;
   const auto f_nu = [&](double nu) { return s1 * planck_per_frequency(nu, t1) + s2 * planck_per_frequency(nu, t2); };
-  const MeasuredSpectrum s = spectrum_of(f_nu, 0.2, 5.0, 300, 1e-4, 5);
+  const MeasuredSpectrum s = simulate_spectrum(f_nu, 0.2, 5.0, 300, 1e-4, 5);
   const ModelFitResult fit = fit_model(model_data(s), spec, {});
   const ModelQuantities q = derive_model_quantities(fit, s.y_unit, std::nullopt, std::nullopt);
   ASSERT_EQ(q.components.size(), 2u);
@@ -174,7 +158,7 @@ TEST(ModelQuantities, RedshiftSeparatesRestAndObservedFrames) {
   ModelSpec spec;
   spec.redshift = 1.5;
   const double t_rest = 12000.0, omega = 1e-22;
-  const MeasuredSpectrum s = spectrum_of([&](double nu) { return omega * planck_per_frequency(nu, t_rest / 2.5); }, 0.4,
+  const MeasuredSpectrum s = simulate_spectrum([&](double nu) { return omega * planck_per_frequency(nu, t_rest / 2.5); }, 0.4,
                                          3.0, 100, 1e-3, 6);
   const ModelFitResult fit = fit_model(model_data(s), spec, {});
   const ModelQuantities q = derive_model_quantities(fit, s.y_unit, std::nullopt, std::nullopt);
@@ -192,7 +176,7 @@ TEST(ModelQuantities, DilutionFactorCarriesTheAngularRadiusError) {
   ModelSpec spec;
   spec.kind = ModelKind::kDilutedPlanck;
   const double theta = 2e-11, zeta = 0.6, t = 9000.0;
-  const MeasuredSpectrum s = spectrum_of(
+  const MeasuredSpectrum s = simulate_spectrum(
       [&](double nu) { return std::numbers::pi * theta * theta * zeta * zeta * planck_per_frequency(nu, t); }, 0.33, 1.0, 200,
       0.001, 7);
   spec.angular_radius = AngularRadius{theta, 0.0};
