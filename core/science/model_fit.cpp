@@ -912,6 +912,7 @@ ModelFitResult fit_model(const ModelData& data, const ModelSpec& spec, const Mod
     if (robust) result.robust_cost += ceres_settings::robust_rho(options.solver.loss, options.solver.loss_scale, r * r);
     result.items.push_back({model.in_item_space(j, f), r});
   }
+  result.chi_square_unscaled = chi_square;
   result.points_used = data.items.size();
   result.degrees_of_freedom = static_cast<int>(data.items.size()) - static_cast<int>(result.free.size());
   result.errors_estimated = !data.has_errors;
@@ -954,5 +955,169 @@ ModelFitResult fit_model(const ModelData& data, const ModelSpec& spec, const Mod
   add_model_warnings(data, model, sigma, result);
   return result;
 }
+
+// ----- the posterior --------------------------------------------------------------------------
+
+struct ModelPosterior::Impl {
+  const ModelFitResult& fit;
+  std::vector<ParameterInfo> infos;
+  ItemModel model;
+  std::vector<double> sigma;
+  RobustLoss loss;
+  double loss_scale;
+  std::vector<double> lower, upper;  // internal bounds of the free parameters
+  mutable std::vector<double> u;
+
+  Impl(const ModelData& data, const ModelFitResult& f, const ModelFitOptions& options)
+      : fit(f), infos(model_parameters(f.spec)), model(data, f.spec, infos), loss(options.solver.loss),
+        loss_scale(options.solver.loss_scale), u(f.internal_values()) {
+    // The sigmas the fit's residuals were divided by: the items' own, or, without errors, scaled to
+    // the fitted scatter (spectra: uniform sigma; bands: fractional).
+    const double scatter = f.errors_estimated && f.degrees_of_freedom > 0 && f.chi_square_unscaled > 0.0
+                               ? std::sqrt(f.chi_square_unscaled / f.degrees_of_freedom)
+                               : 1.0;
+    for (const ModelData::Item& item : data.items) sigma.push_back(item.sigma * scatter);
+    for (std::size_t p : f.free) {
+      const FittedParameter& fp = f.parameters[p];
+      lower.push_back(internal_bound(fp.info, fp.lower));
+      upper.push_back(internal_bound(fp.info, fp.upper));
+    }
+  }
+
+  const std::vector<double>& full(const double* x) const {
+    for (std::size_t i = 0; i < fit.free.size(); ++i) u[fit.free[i]] = x[i];
+    return u;
+  }
+
+  // sum of rho(r^2) (plain: chi^2) over the items, or +inf where the model is not finite.
+  double cost(const double* x, bool plain) const {
+    const std::vector<double>& all = full(x);
+    const Eigen::ArrayXd f = model.item_values(all);
+    double sum = 0.0;
+    for (std::size_t j = 0; j < sigma.size(); ++j) {
+      const double r = model.residual(j, f[static_cast<Eigen::Index>(j)], sigma).value;
+      sum += plain ? r * r : ceres_settings::robust_rho(loss, loss_scale, r * r);
+    }
+    return std::isfinite(sum) ? sum : HUGE_VAL;
+  }
+};
+
+ModelPosterior::ModelPosterior(const ModelData& data, const ModelFitResult& fit, const ModelFitOptions& options)
+    : impl_(std::make_unique<Impl>(data, fit, options)) {}
+ModelPosterior::~ModelPosterior() = default;
+
+std::size_t ModelPosterior::dimension() const { return impl_->fit.free.size(); }
+
+std::vector<double> ModelPosterior::at_fit() const {
+  std::vector<double> x;
+  for (std::size_t p : impl_->fit.free) x.push_back(impl_->fit.parameters[p].internal);
+  return x;
+}
+
+std::array<double, 2> ModelPosterior::bounds(std::size_t i) const { return {impl_->lower[i], impl_->upper[i]}; }
+
+double ModelPosterior::log_probability(const double* x) const {
+  const Impl& m = *impl_;
+  double log_prior = 0.0;
+  for (std::size_t i = 0; i < m.fit.free.size(); ++i) {
+    if (!(x[i] >= m.lower[i] && x[i] <= m.upper[i])) return -HUGE_VAL;
+    const FittedParameter& fp = m.fit.parameters[m.fit.free[i]];
+    if (fp.prior) {
+      const double r = (fp.info.natural(x[i]) - fp.prior->mean) / fp.prior->sigma;
+      log_prior -= 0.5 * r * r;
+    }
+  }
+  const double cost = m.cost(x, false);
+  return std::isfinite(cost) ? log_prior - 0.5 * cost : -HUGE_VAL;
+}
+
+double ModelPosterior::chi_square(const double* x) const { return impl_->cost(x, true); }
+
+namespace {
+
+// rho'(s) of the loss: the IRLS weight of a squared residual s (Ceres' loss_function.h).
+double robust_weight(RobustLoss loss, double scale, double s) {
+  const double b = scale * scale;
+  switch (loss) {
+    case RobustLoss::kNone: return 1.0;
+    case RobustLoss::kHuber: return s > b ? std::sqrt(b / s) : 1.0;
+    case RobustLoss::kCauchy: return 1.0 / (1.0 + s / b);
+  }
+  return 1.0;
+}
+
+}  // namespace
+
+double ModelPosterior::profile(std::size_t fixed, double value, std::vector<double>& x) const {
+  const Impl& m = *impl_;
+  const std::size_t dim = m.fit.free.size();
+  x[fixed] = value;
+  const auto total = [&](const std::vector<double>& at) {
+    const double lp = log_probability(at.data());
+    return std::isfinite(lp) ? -2.0 * lp : HUGE_VAL;
+  };
+  double cost = total(x);
+  if (dim == 1 || !std::isfinite(cost)) return cost;
+  std::vector<std::size_t> moving;  // indices into the free parameters
+  for (std::size_t i = 0; i < dim; ++i) {
+    if (i != fixed) moving.push_back(i);
+  }
+  const Eigen::Index k = static_cast<Eigen::Index>(moving.size());
+  const std::size_t n = m.sigma.size();
+  double lambda = 1e-3;
+  for (int iteration = 0; iteration < 100; ++iteration) {
+    // Residuals and Jacobian (in the moving parameters) of the data and the priors, IRLS-weighted.
+    const std::vector<double>& all = m.full(x.data());
+    m.model.evaluate(all.data(), 0, n, true);
+    Eigen::MatrixXd jtj = Eigen::MatrixXd::Zero(k, k);
+    Eigen::VectorXd jtr = Eigen::VectorXd::Zero(k);
+    Eigen::VectorXd row(k);
+    for (std::size_t j = 0; j < n; ++j) {
+      const ItemModel::Residual r = m.model.residual(j, m.model.flux()[static_cast<Eigen::Index>(j)], m.sigma);
+      const double w = robust_weight(m.loss, m.loss_scale, r.value * r.value);
+      for (Eigen::Index a = 0; a < k; ++a) {
+        const std::size_t p = m.fit.free[moving[static_cast<std::size_t>(a)]];
+        row[a] = r.d_model * m.model.flux_derivatives()(static_cast<Eigen::Index>(j), static_cast<Eigen::Index>(p));
+      }
+      jtj.noalias() += w * row * row.transpose();
+      jtr += w * r.value * row;
+    }
+    for (Eigen::Index a = 0; a < k; ++a) {
+      const std::size_t i = moving[static_cast<std::size_t>(a)];
+      const FittedParameter& fp = m.fit.parameters[m.fit.free[i]];
+      if (!fp.prior) continue;
+      const double r = (fp.info.natural(x[i]) - fp.prior->mean) / fp.prior->sigma;
+      const double d = fp.info.derivative(x[i]) / fp.prior->sigma;
+      jtj(a, a) += d * d;
+      jtr[a] += r * d;
+    }
+    bool improved = false;
+    for (int attempt = 0; attempt < 12 && !improved; ++attempt, lambda *= 10.0) {
+      Eigen::MatrixXd damped = jtj;
+      damped.diagonal() *= 1.0 + lambda;
+      const Eigen::VectorXd step = damped.ldlt().solve(-jtr);
+      if (!step.allFinite()) continue;
+      std::vector<double> trial = x;
+      for (Eigen::Index a = 0; a < k; ++a) {
+        const std::size_t i = moving[static_cast<std::size_t>(a)];
+        trial[i] = std::clamp(x[i] + step[a], m.lower[i], m.upper[i]);
+      }
+      const double trial_cost = total(trial);
+      if (trial_cost <= cost) {
+        improved = true;
+        const bool done = step.norm() < 1e-10 * (1.0 + Eigen::Map<const Eigen::VectorXd>(x.data(), static_cast<Eigen::Index>(dim)).norm()) ||
+                          cost - trial_cost < 1e-12 * (1.0 + cost);
+        x = trial;
+        cost = trial_cost;
+        lambda = std::max(lambda / 100.0, 1e-9);
+        if (done) return cost;
+      }
+    }
+    if (!improved) break;
+  }
+  return cost;
+}
+
+std::vector<double> ModelPosterior::all_internal(const double* x) const { return impl_->full(x); }
 
 }  // namespace planckton

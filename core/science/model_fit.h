@@ -35,6 +35,7 @@
 #include <array>
 #include <cstddef>
 #include <map>
+#include <memory>
 #include <optional>
 #include <string>
 #include <vector>
@@ -129,6 +130,7 @@ struct ModelFitResult {
   std::optional<double> chi_square;  // of the data, without the priors
   std::optional<double> p_value;
   double prior_chi_square = 0.0;
+  double chi_square_unscaled = 0.0;  // sum of squared residuals with the sigmas used (also without errors)
   bool errors_estimated = false;
   double residual_scatter = 0.0;  // estimated one sigma (spectra: SI; bands: fraction of flux)
   double robust_cost = 0.0;
@@ -152,5 +154,37 @@ double model_value(const ModelSpec& spec, const std::vector<ParameterInfo>& para
 // ("model.parameters.<name>"), fewer items than free parameters, extinction outside the law's range
 // ("model.extinction"), and what fit_planck throws for the options.
 ModelFitResult fit_model(const ModelData& data, const ModelSpec& spec, const ModelFitOptions& options);
+
+// The posterior a fit's data give its free parameters, in the solver's space (ln of positive
+// parameters; beta and E(B-V) as they are), for samplers and profiles:
+//   ln p(u) = -1/2 sum_j rho(r_j(u)^2) - 1/2 sum_priors ((p - mean) / sigma)^2,   u inside the bounds,
+// and -inf outside them; rho is the fit's loss (identity for least squares), r_j the residuals with
+// the sigmas the fit used, scaled by the fitted scatter when the errors were estimated (so that the
+// intervals follow the residual scatter). Otherwise flat in u: flat in ln T (ln S, ln nu_t), flat in
+// beta and E(B-V). Not thread-safe (scratch space); one per request.
+class ModelPosterior {
+ public:
+  ModelPosterior(const ModelData& data, const ModelFitResult& fit, const ModelFitOptions& options);
+  ~ModelPosterior();
+  ModelPosterior(const ModelPosterior&) = delete;
+  ModelPosterior& operator=(const ModelPosterior&) = delete;
+
+  std::size_t dimension() const;            // the number of free parameters
+  std::vector<double> at_fit() const;       // their internal values at the fit
+  std::array<double, 2> bounds(std::size_t i) const;  // internal bounds of free parameter i (may be infinite)
+  double log_probability(const double* free_internal) const;
+  double chi_square(const double* free_internal) const;  // of the data alone (sum of r^2)
+  std::vector<double> all_internal(const double* free_internal) const;  // with the fixed ones
+
+  // -2 ln p minimised over the free parameters other than `fixed` (an index into them), which is
+  // held at `value` (internal): the profile (Levenberg-Marquardt from x, with the model's analytic
+  // Jacobian; bounds by projection; a robust loss by its IRLS weights). x (dimension() long) is the
+  // start and receives the minimiser; returns +inf where the model is not finite.
+  double profile(std::size_t fixed, double value, std::vector<double>& x) const;
+
+ private:
+  struct Impl;
+  std::unique_ptr<Impl> impl_;
+};
 
 }  // namespace planckton

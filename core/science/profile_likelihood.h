@@ -1,0 +1,64 @@
+// Profile-likelihood intervals for every free parameter of a fit, and one-sided limits where the
+// data bound a parameter on one side only.
+//
+// Method. For a parameter theta, the profile is -2 ln p minimised over all the others with theta
+// held fixed (ModelPosterior::profile: Levenberg-Marquardt from the neighbouring profile point).
+// The interval at level L is where the profile rises by Delta above its minimum: Delta = 1 for
+// 68.27 % and 4 for 95.45 % (Wilks 1938; e.g. W. A. Rolke, A. M. Lopez & J. Conrad, NIM A 551, 493
+// (2005); Press et al., Numerical Recipes, 3rd ed., 15.6.5). Each side steps out from the best fit
+// (steps of one covariance sigma, doubling) until the profile has risen by 4 or the parameter's bound
+// is reached, then finds each crossing by TOMS 748 (Alefeld, Potra & Shi 1995; Boost.Math). A side
+// that reaches its bound before rising is open: the other end is then a one-sided limit, stated at
+// its one-sided level (Delta = 1: 84.13 %, Delta = 4: 97.72 %), and no closed interval is invented.
+//
+// Derived quantities get the range of their values over the profile points at each threshold (the
+// parameter vectors found at the crossings of every parameter, and the best fit; on an open side the
+// point at the bound): for a quantity that is a monotone function of one parameter (a Planck peak of
+// T) this is its profile interval exactly; otherwise it is the envelope of the parameters' profiles,
+// and the response says so.
+//
+// Example:
+//   planckton::ModelPosterior posterior(data, fit, options);
+//   planckton::ProfileResult profile = planckton::profile_intervals(posterior, fit);
+//   if (profile.parameters[0].upper_open) std::puts("temperature: lower limit only");
+#pragma once
+
+#include <array>
+#include <cstddef>
+#include <functional>
+#include <optional>
+#include <vector>
+
+#include "science/model_fit.h"
+
+namespace planckton {
+
+inline constexpr std::array<double, 2> kProfileThresholds = {1.0, 4.0};     // Delta(-2 ln p)
+inline constexpr std::array<double, 2> kTwoSidedLevels = {0.682689492137086, 0.954499736103642};
+inline constexpr std::array<double, 2> kOneSidedLevels = {0.841344746068543, 0.977249868051821};
+
+struct ProfileBounds {
+  // Per threshold (68 %, 95 %): the crossings in the solver's space; absent on an open side.
+  std::array<std::optional<double>, 2> lower, upper;
+  bool lower_open = false;  // the profile did not rise by a threshold before the lower bound
+  bool upper_open = false;
+  // The free-parameter vectors at the crossings (for derived quantities), per threshold; on an open
+  // side the last point followed (at the bound).
+  std::array<std::vector<std::vector<double>>, 2> points;
+};
+
+struct ProfileResult {
+  std::vector<ProfileBounds> parameters;  // one per free parameter, in fit.free order
+  double minimum = 0.0;                   // -2 ln p at the best fit (after re-minimising)
+  std::size_t evaluations = 0;            // profile minimisations
+  bool minimum_moved = false;             // a profile found a lower minimum than the fit's
+};
+
+ProfileResult profile_intervals(const ModelPosterior& posterior, const ModelFitResult& fit);
+
+// The range of q over the profile points at each threshold (and the best fit), as (lo, hi) per
+// threshold. q takes the free-parameter vector.
+std::array<std::array<double, 2>, 2> profile_range(const ProfileResult& profile, const std::vector<double>& best,
+                                                   const std::function<double(const std::vector<double>&)>& q);
+
+}  // namespace planckton
