@@ -16,6 +16,7 @@
 #include <cmath>
 
 #include "science/derived_quantities.h"
+#include "science/ensemble_sampler.h"
 #include "science/extinction.h"
 #include "science/model_fit.h"
 #include "science/model_quantities.h"
@@ -84,6 +85,32 @@ void BM_PlanckEvaluation(benchmark::State& state) {
   }
 }
 BENCHMARK(BM_PlanckEvaluation)->Arg(1000)->Unit(benchmark::kMicrosecond);
+
+// Intervals from the posterior (science/ensemble_sampler.h): the fit of BM_FitSpectrum's spectrum
+// as a 2-parameter model fit (preparation, start, solve, covariance), its ModelPosterior, and
+// 10,016 kept draws from the ensemble sampler: 32 walkers x (200 burn-in + 313 kept) steps, 16,448
+// evaluations of ln p over the 1,000 points. Target (issue): under 1 s per posterior on one core.
+void BM_PosteriorSamples(benchmark::State& state) {
+  const SpectrumInput input = bench::synthetic_spectrum(static_cast<int>(state.range(0)));
+  const ModelFitOptions fit_options;
+  EnsembleSamplerOptions options;
+  options.walkers = 32;
+  options.burn_in = 200;
+  options.steps = 200 + 313;
+  for (auto _ : state) {
+    const MeasuredSpectrum spectrum = prepare_spectrum(input);
+    const ModelData data = model_data(spectrum);
+    const ModelFitResult fit = fit_model(data, ModelSpec{}, fit_options);
+    const ModelPosterior posterior(data, fit, fit_options);
+    std::vector<double> scale;
+    for (std::size_t p : fit.free) scale.push_back(fit.parameters[p].internal_sigma.value_or(0.1));
+    const EnsembleSamplerResult chain = sample_ensemble(
+        [&posterior](const double* u) { return posterior.log_probability(u); }, posterior.at_fit(), scale, options);
+    benchmark::DoNotOptimize(chain.samples.data());
+    if (chain.draws() < 10000) state.SkipWithError("fewer than 10,000 draws");
+  }
+}
+BENCHMARK(BM_PosteriorSamples)->Arg(1000)->Unit(benchmark::kMillisecond);
 
 // The model family: a complete fit (preparation, start search, solve, covariance, derived
 // quantities) of 1,000 points simulated from the model itself with 1 % noise, for every kind, and

@@ -116,6 +116,8 @@ int main(int argc, char** argv) {
       {"temperature_max", "upper temperature bound, K"},
       {"time_budget_seconds", "time budget of the fit, s"},
       {"systematic_error", "photometry: systematic error floor, a fraction of the flux"},
+      {"intervals", "interval method: covariance (default), profile or posterior"},
+      {"seed", "posterior: the sampler's seed (same seed, same answer)"},
       {"hdu", "FITS: the HDU to read, by EXTNAME or 0-based number"},
       {"error_hdu", "FITS: the HDU of the errors of an image spectrum, by EXTNAME or 0-based number, or 'none'"},
   };

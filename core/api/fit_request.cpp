@@ -40,9 +40,58 @@ DistanceInput parse_distance(const element& value) {
   return distance;
 }
 
+// An integer member in [lo, hi].
+int integer_at(const element& value, const std::string& pointer, int lo, int hi) {
+  int64_t v = 0;
+  if (value.get_int64().get(v) || v < lo || v > hi) {
+    fail(pointer, "must be an integer from " + std::to_string(lo) + " to " + std::to_string(hi));
+  }
+  return static_cast<int>(v);
+}
+
+// The sampler's settings, bounded so that one request cannot ask for unbounded work: at most
+// 256 walkers x 20,000 steps, and a returned sample of at most 10,000 draws.
+void parse_posterior(const element& value, FitRequest& request) {
+  const Members m(value, "/options/posterior", {"walkers", "steps", "burn_in", "samples"});
+  EnsembleSamplerOptions& s = request.intervals.sampler;
+  if (const auto e = m.find("walkers")) s.walkers = integer_at(*e, m.at("walkers"), 4, 256);
+  if (const auto e = m.find("steps")) s.steps = integer_at(*e, m.at("steps"), 10, 20000);
+  if (const auto e = m.find("burn_in")) {
+    s.burn_in = integer_at(*e, m.at("burn_in"), 0, 19999);
+  } else if (m.find("steps")) {
+    s.burn_in = std::min(s.burn_in, s.steps / 4);  // the default burn-in, or a quarter of fewer steps
+  }
+  if (const auto e = m.find("samples")) request.intervals.samples_returned = static_cast<std::size_t>(integer_at(*e, m.at("samples"), 0, 10000));
+  if (s.walkers % 2 != 0) fail(m.at("walkers"), "must be even (the ensemble moves in two halves)");
+  if (s.burn_in >= s.steps) fail(m.at("burn_in"), "must be less than steps");
+  if (static_cast<long>(s.walkers) * s.steps > 1000000) fail(m.at("steps"), "walkers x steps must not exceed 1,000,000");
+}
+
 void parse_options(const element& value, FitRequest& request) {
   const Members o(value, "/options",
-                  {"temperature_bounds", "loss", "distance", "max_iterations", "time_budget_seconds", "systematic_error"});
+                  {"temperature_bounds", "loss", "distance", "max_iterations", "time_budget_seconds", "systematic_error",
+                   "intervals", "seed", "posterior"});
+  if (const auto e = o.find("intervals")) {
+    request.intervals_name = string_at(*e, o.at("intervals"));
+    if (request.intervals_name == "covariance") {
+      request.intervals.method = IntervalMethod::kCovariance;
+    } else if (request.intervals_name == "profile") {
+      request.intervals.method = IntervalMethod::kProfile;
+    } else if (request.intervals_name == "posterior") {
+      request.intervals.method = IntervalMethod::kPosterior;
+    } else {
+      fail(o.at("intervals"), "is not a known interval method", {"covariance", "profile", "posterior"});
+    }
+  }
+  if (const auto e = o.find("seed")) {
+    int64_t seed = 0;
+    if (e->get_int64().get(seed) || seed < 0) fail(o.at("seed"), "must be a non-negative integer");
+    request.intervals.sampler.seed = static_cast<std::uint64_t>(seed);
+  }
+  if (const auto e = o.find("posterior")) parse_posterior(*e, request);
+  if ((o.find("seed") || o.find("posterior")) && request.intervals.method != IntervalMethod::kPosterior) {
+    fail(o.find("seed") ? o.at("seed") : o.at("posterior"), "applies to intervals \"posterior\" only");
+  }
   if (const auto e = o.find("systematic_error")) request.systematic_error = number_at(*e, o.at("systematic_error"));
   if (const auto e = o.find("temperature_bounds")) {
     const auto [lo, hi] = pair_at(*e, o.at("temperature_bounds"));

@@ -10,6 +10,9 @@
 //                   "loss": { "kind": "none" | "huber" | "cauchy", "scale": 1.0 },
 //                   "distance": { "value": 120, "unit": "pc", "error": 5 },
 //                   "systematic_error": 0.02,                          photometry: fraction of flux
+//                   "intervals": "covariance" | "profile" | "posterior",
+//                   "seed": 1,                                          posterior: same seed, same answer
+//                   "posterior": { "walkers": 32, "steps": 700, "burn_in": 200, "samples": 0 },
 //                   "max_iterations": 200, "time_budget_seconds": 10 } }
 //
 // The text is parsed with simdjson (its DOM API: the arrays of a 1,000-point spectrum are read in
@@ -29,6 +32,7 @@
 
 #include "api/model_request.h"
 #include "science/derived_quantities.h"
+#include "science/model_intervals.h"
 #include "science/photometry.h"
 #include "science/planck_fit.h"
 #include "science/spectrum.h"
@@ -56,6 +60,11 @@ struct FitRequest {
   std::string loss_name = "none";
   std::optional<DistanceInput> distance;
   std::optional<double> systematic_error;  // options.systematic_error (photometry only)
+  IntervalOptions intervals;                // options.intervals, options.seed, options.posterior
+  std::string intervals_name = "covariance";
+
+  // The dedicated Planck fit applies: a plain planck model with covariance intervals.
+  bool plain() const { return model.plain() && intervals.method == IntervalMethod::kCovariance; }
 };
 
 // The whole request document.

@@ -24,17 +24,23 @@ json optional_number(const std::optional<double>& value, double factor = 1.0) {
 }
 
 json interval(const std::optional<std::array<double, 2>>& bounds, double factor) {
-  return bounds ? json::array({(*bounds)[0] * factor, (*bounds)[1] * factor}) : json(nullptr);
+  if (!bounds) return nullptr;
+  const auto end = [&](double v) { return std::isfinite(v) ? json(v * factor) : json(nullptr); };
+  return json::array({end((*bounds)[0]), end((*bounds)[1])});
 }
 
 }  // namespace
 
 nlohmann::ordered_json estimate_json(const Estimate& e, const char* unit, double factor) {
-  return {{"value", e.value * factor},
-          {"unit", unit},
-          {"error", optional_number(e.error, factor)},
-          {"interval_68", interval(e.interval_68, factor)},
-          {"interval_95", interval(e.interval_95, factor)}};
+  json doc = {{"value", e.value * factor},
+              {"unit", unit},
+              {"error", optional_number(e.error, factor)},
+              {"interval_68", interval(e.interval_68, factor)},
+              {"interval_95", interval(e.interval_95, factor)}};
+  if (e.median) doc["median"] = *e.median * factor;
+  // A one-sided limit: the open end of each interval is null (NaN), the other is the limit.
+  if (e.one_sided != OneSided::kNo) doc["one_sided"] = e.one_sided == OneSided::kLowerLimit ? "lower_limit" : "upper_limit";
+  return doc;
 }
 
 namespace {
@@ -399,8 +405,63 @@ json extinction_json(const ExtinctionSpec& e) {
                       "of the intrinsic (dereddened) curve"}};
 }
 
+json intervals_json(const FitRequest& request, const ModelFitResult& fit, const ModelIntervals& intervals) {
+  const json levels = {{"interval_68", 0.682689492137086}, {"interval_95", 0.954499736103642}};
+  switch (request.intervals.method) {
+    case IntervalMethod::kCovariance:
+      return {{"method", "covariance"},
+              {"description", "linearised (Gaussian) errors from the covariance matrix of the free parameters; intervals "
+                              "are Gaussian in the logarithm of each positive quantity (symmetric for beta and "
+                              "color_excess), at 1 and 2 sigma; derived quantities by the delta method"},
+              {"levels", levels}};
+    case IntervalMethod::kProfile:
+      return {{"method", "profile"},
+              {"description", "profile likelihood: where -2 ln p, minimised over the other parameters, rises by 1 and 4 "
+                              "(Wilks 1938); a side that does not rise before the parameter's bound is open (null) and "
+                              "the other end is a one-sided limit at its one-sided level; derived quantities span their "
+                              "values over the profile points (exact for a quantity of one parameter, an envelope "
+                              "otherwise); error is the linearised one"},
+              {"levels", levels},
+              {"one_sided_levels", {{"interval_68", 0.841344746068543}, {"interval_95", 0.977249868051821}}},
+              {"thresholds", {1.0, 4.0}},
+              {"profile_evaluations", intervals.profile_evaluations}};
+    case IntervalMethod::kPosterior: break;
+  }
+  const EnsembleSamplerResult& chain = *intervals.chain;
+  json tau = json::object();
+  for (std::size_t i = 0; i < fit.free.size() && i < chain.autocorrelation_time.size(); ++i) {
+    tau[fit.parameters[fit.free[i]].info.name] = chain.autocorrelation_time[i];
+  }
+  const EnsembleSamplerOptions& sampler = request.intervals.sampler;
+  json doc = {
+      {"method", "posterior"},
+      {"description", "affine-invariant ensemble sampler (Goodman & Weare 2010, CAMCOS 5, 65; stretch move, two "
+                      "half-ensembles): median and the 15.87/84.13 and 2.275/97.725 percentiles over the draws; value "
+                      "stays the best fit, error the linearised one"},
+      {"levels", levels},
+      {"prior", "flat in the solver's space (ln T, ln scale, ln turnover_frequency; beta and color_excess as they are) "
+                "inside the bounds, times the model's Gaussian priors"},
+      {"seed", sampler.seed},
+      {"walkers", sampler.walkers},
+      {"steps", sampler.steps},
+      {"burn_in", sampler.burn_in},
+      {"draws", static_cast<std::size_t>(sampler.walkers) * static_cast<std::size_t>((sampler.steps - sampler.burn_in + sampler.thin - 1) / sampler.thin)},
+      {"acceptance_fraction", chain.acceptance_fraction},
+      {"autocorrelation_time", tau},
+      {"converged", chain.converged},
+      {"evaluations", chain.evaluations}};
+  if (!intervals.returned_samples.empty()) {
+    json names = json::array();
+    for (std::size_t p : fit.free) names.push_back(fit.parameters[p].info.name);
+    doc["samples"] = {{"parameters", names}, {"draws", intervals.returned_samples}};
+  }
+  return doc;
+}
+
 json model_document(const FitRequest& request, const FluxDensityUnit& unit, Convention data_convention,
-                    const ModelFitResult& fit, const ModelQuantities& q, json statistics, json input, std::optional<json> bands) {
+                    const ModelFitResult& fit, const ModelIntervals& intervals, json statistics, json input,
+                    std::optional<json> bands) {
+  const ModelQuantities& q = intervals.quantities;
   json response;
   if (request.id) response["id"] = *request.id;
   response["model"] = request.model.kind_name;
@@ -423,15 +484,12 @@ json model_document(const FitRequest& request, const FluxDensityUnit& unit, Conv
                            "p_value are of the data alone";
   }
   response["statistics"] = std::move(statistics);
-  response["intervals"] = {
-      {"method", "covariance"},
-      {"description", "linearised (Gaussian) errors from the covariance matrix of the free parameters; intervals are "
-                      "Gaussian in the logarithm of each positive quantity (symmetric for beta and color_excess), at 1 "
-                      "and 2 sigma; derived quantities by the delta method"},
-      {"levels", {{"interval_68", 0.682689492137086}, {"interval_95", 0.954499736103642}}}};
+  response["intervals"] = intervals_json(request, fit, intervals);
   response["input"] = std::move(input);
   response["solver"] = {{"termination", fit.termination}, {"iterations", fit.iterations}, {"message", fit.solver_message}};
-  response["warnings"] = warnings_json(fit.warnings);
+  std::vector<FitWarning> warnings = fit.warnings;
+  warnings.insert(warnings.end(), intervals.warnings.begin(), intervals.warnings.end());
+  response["warnings"] = warnings_json(warnings);
   if (!q.notes.empty()) response["notes"] = q.notes;
   response["provenance"] = provenance_json();
   return response;
@@ -440,15 +498,15 @@ json model_document(const FitRequest& request, const FluxDensityUnit& unit, Conv
 }  // namespace
 
 nlohmann::ordered_json make_model_response(const FitRequest& request, const MeasuredSpectrum& spectrum,
-                                           const ModelFitResult& fit, const ModelQuantities& quantities) {
-  return model_document(request, spectrum.y_unit, spectrum.y_unit.convention, fit, quantities,
+                                           const ModelFitResult& fit, const ModelIntervals& intervals) {
+  return model_document(request, spectrum.y_unit, spectrum.y_unit.convention, fit, intervals,
                         spectrum_statistics(request, spectrum, goodness_of(fit)), spectrum_input(spectrum), std::nullopt);
 }
 
 nlohmann::ordered_json make_model_photometry_response(const FitRequest& request, const MeasuredPhotometry& data,
                                                       const std::vector<BandFit>& bands, const FluxDensityUnit& unit,
-                                                      const ModelFitResult& fit, const ModelQuantities& quantities) {
-  return model_document(request, unit, unit.convention, fit, quantities, photometry_statistics(data, goodness_of(fit)),
+                                                      const ModelFitResult& fit, const ModelIntervals& intervals) {
+  return model_document(request, unit, unit.convention, fit, intervals, photometry_statistics(data, goodness_of(fit)),
                         photometry_input(request, data, unit), bands_json(request, data, bands));
 }
 

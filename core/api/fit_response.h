@@ -36,10 +36,13 @@ nlohmann::ordered_json make_photometry_response(const FitRequest& request, const
 // interval, bounds, prior and whether it was fixed; the correlation matrix of the free ones;
 // peaks of the intrinsic curve; "components" (two temperatures), "frames" (a redshift) and
 // "extinction" (the law applied) when they apply; dust mass among the derived quantities.
+// "intervals" says which method gave the intervals (covariance, profile, posterior) with its
+// figures (profile evaluations; the sampler's acceptance, autocorrelation times, convergence, seed,
+// prior and, when asked for, a thinned sample).
 nlohmann::ordered_json make_model_response(const FitRequest& request, const MeasuredSpectrum& spectrum,
-                                           const ModelFitResult& fit, const ModelQuantities& quantities);
+                                           const ModelFitResult& fit, const ModelIntervals& intervals);
 nlohmann::ordered_json make_model_photometry_response(const FitRequest& request, const MeasuredPhotometry& data,
                                                       const std::vector<BandFit>& bands, const FluxDensityUnit& unit,
-                                                      const ModelFitResult& fit, const ModelQuantities& quantities);
+                                                      const ModelFitResult& fit, const ModelIntervals& intervals);
 
 }  // namespace planckton::api

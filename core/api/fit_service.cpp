@@ -133,6 +133,12 @@ TableSettings table_settings(const TableParameters& parameters, bool photometry,
     else if (name == "temperature_max") t_max = parameter_number(name, value);
     else if (name == "time_budget_seconds") options["time_budget_seconds"] = parameter_number(name, value);
     else if (name == "systematic_error") options["systematic_error"] = parameter_number(name, value);
+    else if (name == "intervals") options["intervals"] = value;
+    else if (name == "seed") {
+      const double seed = parameter_number(name, value);
+      if (!(seed >= 0.0) || seed != std::floor(seed) || seed > 9e15) throw ProblemError(invalid_parameter(name, "must be a non-negative integer"));
+      options["seed"] = static_cast<std::int64_t>(seed);
+    }
     else throw ProblemError(invalid_parameter(name, "is not a known parameter", table_parameter_names()));
   }
   if (require_units && !photometry && settings.table.x_unit.empty()) throw ProblemError(invalid_parameter("x_unit", "is required for a table", documented_spectral_axis_units()));
@@ -161,7 +167,8 @@ std::optional<std::string> parameter_of(const std::string& pointer) {
       {"/model", "model"}, {"/options/loss/scale", "loss_scale"}, {"/options/loss", "loss"},
       {"/options/distance", "distance"}, {"/options/temperature_bounds/0", "temperature_min"},
       {"/options/temperature_bounds/1", "temperature_max"}, {"/options/temperature_bounds", "temperature_min"},
-      {"/options/time_budget_seconds", "time_budget_seconds"}, {"/options/systematic_error", "systematic_error"}};
+      {"/options/time_budget_seconds", "time_budget_seconds"}, {"/options/systematic_error", "systematic_error"},
+      {"/options/intervals", "intervals"}, {"/options/seed", "seed"}};
   for (const auto& [prefix, name] : kPrefixes) {
     if (pointer.rfind(prefix, 0) == 0) return name;
   }
@@ -229,14 +236,16 @@ void fit_model_family(FitOutcome& out, const FitRequest& request, const std::opt
   const ModelFitOptions options{request.fit_options, request.model.controls};
   const ModelData data = out.photometry ? model_data(*out.photometry) : model_data(*out.spectrum);
   out.model_fit = fit_model(data, spec, options);
-  out.model_quantities = derive_model_quantities(*out.model_fit, out.unit, distance, request.model.dust_opacity);
+  ModelIntervals intervals = model_intervals(data, *out.model_fit, options, request.intervals, out.unit, distance,
+                                             request.model.dust_opacity);
+  out.model_quantities = intervals.quantities;
   const ModelFitResult& fit = *out.model_fit;
   if (out.photometry) {
     out.photometry_fit = PhotometryFitResult{{}, model_band_fits(*out.photometry, fit)};
     out.response = make_model_photometry_response(request, *out.photometry, out.photometry_fit->bands, out.unit, fit,
-                                                  *out.model_quantities);
+                                                  intervals);
   } else {
-    out.response = make_model_response(request, *out.spectrum, fit, *out.model_quantities);
+    out.response = make_model_response(request, *out.spectrum, fit, intervals);
   }
 }
 
@@ -276,7 +285,7 @@ FitOutcome fit_outcome(FitRequest request, const ServiceLimits& limits) {
       out.spectrum = prepare_spectrum(request.spectrum);
       out.unit = out.spectrum->y_unit;
     }
-    if (request.model.plain()) {
+    if (request.plain()) {
       fit_plain_planck(out, request, distance);
     } else {
       fit_model_family(out, request, distance);
@@ -425,7 +434,7 @@ const std::vector<std::string>& fits_parameter_names() {
   static const std::vector<std::string> kNames = {
       "hdu", "x_column", "y_column", "error_column", "error_hdu", "x_unit", "y_unit", "model", "opacity", "redshift",
       "extinction", "r_v", "fix", "loss", "loss_scale", "exclude", "distance", "temperature_min", "temperature_max",
-      "time_budget_seconds", "systematic_error"};
+      "time_budget_seconds", "systematic_error", "intervals", "seed"};
   return kNames;
 }
 
@@ -433,7 +442,7 @@ const std::vector<std::string>& table_parameter_names() {
   static const std::vector<std::string> kNames = {
       "x_unit", "y_unit", "x_column", "y_column", "error_column", "model", "opacity", "redshift", "extinction", "r_v",
       "fix", "loss", "loss_scale", "exclude", "distance", "temperature_min", "temperature_max", "time_budget_seconds",
-      "systematic_error"};
+      "systematic_error", "intervals", "seed"};
   return kNames;
 }
 

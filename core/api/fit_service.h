@@ -77,7 +77,7 @@ nlohmann::ordered_json fit_table_text(std::string_view text, const TableRequestO
 // give them: x_unit, y_unit, x_column, y_column, error_column, model (kind), opacity, redshift,
 // extinction (law), r_v, fix (NAME:VALUE, repeatable: a fixed parameter), loss, loss_scale, exclude
 // (LO:HI, repeatable), distance ("VALUE UNIT"), temperature_min, temperature_max,
-// time_budget_seconds, systematic_error. Problems with a parameter name it. A table whose first
+// time_budget_seconds, systematic_error, intervals (covariance, profile or posterior), seed. Problems with a parameter name it. A table whose first
 // column is `band` is photometry (table_reader.h), fitted through the bands; the spectrum's
 // parameters do not apply to it.
 using TableParameters = std::vector<std::pair<std::string, std::string>>;

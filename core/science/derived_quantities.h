@@ -27,11 +27,17 @@ namespace planckton {
 
 // A value with its linearised error and Gaussian-in-logarithm intervals (1 and 2 sigma, i.e.
 // 68.27 % and 95.45 %). error and the intervals are absent when the covariance is unavailable.
+enum class OneSided { kNo, kLowerLimit, kUpperLimit };
+
 struct Estimate {
   double value = 0.0;
   std::optional<double> error;
   std::optional<std::array<double, 2>> interval_68;
   std::optional<std::array<double, 2>> interval_95;
+  // Profile and posterior intervals (profile_likelihood.h, ensemble_sampler.h): a one-sided limit
+  // has NaN at its open end; a posterior has its median.
+  OneSided one_sided = OneSided::kNo;
+  std::optional<double> median;
 };
 
 struct Distance {

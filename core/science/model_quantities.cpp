@@ -37,12 +37,22 @@ namespace {
 // The delta method of the header: Gaussian in ln Q, the gradient by central differences.
 class Propagation {
  public:
-  Propagation(const ModelFitResult& fit, const std::optional<Distance>& distance)
-      : fit_(fit), u_(fit.internal_values()), distance_(distance) {}
+  Propagation(const ModelFitResult& fit, const std::optional<Distance>& distance, const IntervalRule& rule)
+      : fit_(fit), u_(fit.internal_values()), distance_(distance), rule_(rule) {}
 
   const std::vector<double>& u() const { return u_; }
 
   Estimate positive(const Quantity& q, double distance_power = 0.0, double extra_log_variance = 0.0) const {
+    Estimate e = linearised(q, distance_power, extra_log_variance);
+    if (rule_ && std::isfinite(e.value)) {
+      double extra = extra_log_variance;
+      if (distance_) extra += distance_power * distance_power * distance_->relative_error * distance_->relative_error;
+      rule_(q, extra, e);
+    }
+    return e;
+  }
+
+  Estimate linearised(const Quantity& q, double distance_power, double extra_log_variance) const {
     Estimate e;
     e.value = q(u_);
     if (!fit_.covariance_available || !(e.value > 0.0) || !std::isfinite(e.value)) return e;
@@ -89,6 +99,7 @@ class Propagation {
   const ModelFitResult& fit_;
   std::vector<double> u_;
   const std::optional<Distance>& distance_;
+  const IntervalRule& rule_;
 };
 
 // The fitted model in its rest frame and without extinction: the intrinsic curve the peaks and
@@ -260,9 +271,9 @@ void check_inputs(const std::optional<Distance>& distance, const std::optional<D
 
 ModelQuantities derive_model_quantities(const ModelFitResult& fit, const FluxDensityUnit& y_unit,
                                         const std::optional<Distance>& distance,
-                                        const std::optional<DustOpacityInput>& dust_opacity) {
+                                        const std::optional<DustOpacityInput>& dust_opacity, const IntervalRule& rule) {
   check_inputs(distance, dust_opacity);
-  const Propagation propagation(fit, distance);
+  const Propagation propagation(fit, distance, rule);
   const IntrinsicModel m(fit);
   const Layout& layout = m.model.layout();
   const double z = fit.spec.redshift;
@@ -276,9 +287,12 @@ ModelQuantities derive_model_quantities(const ModelFitResult& fit, const FluxDen
     // A known angular radius's own error widens the dilution factor's (zeta proportional to 1 / theta).
     const double theta_error = p.info.name == "dilution_factor" && fit.spec.angular_radius ? fit.spec.angular_radius->relative_error : 0.0;
     const std::size_t index = out.parameters.size();
-    Estimate e = propagation.positive([&, index](const std::vector<double>& u) { return fit.parameters[index].info.natural(u[index]); },
-                                      0.0, theta_error * theta_error);
-    if (p.fixed) e = Estimate{p.value, std::nullopt, std::nullopt, std::nullopt};
+    Estimate e = propagation.linearised([&, index](const std::vector<double>& u) { return fit.parameters[index].info.natural(u[index]); },
+                                        0.0, theta_error * theta_error);
+    if (p.fixed) {
+      e = Estimate{};
+      e.value = p.value;
+    }
     out.parameters.push_back(e);
   }
 
@@ -326,9 +340,12 @@ ModelQuantities derive_model_quantities(const ModelFitResult& fit, const FluxDen
     }
   } else if (fit.spec.kind == ModelKind::kDilutedPlanck && fit.spec.angular_radius) {
     const AngularRadius& theta = *fit.spec.angular_radius;
-    out.angular_radius_rad = Estimate{theta.radians, theta.radians * theta.relative_error,
-                                      std::array<double, 2>{theta.radians * std::exp(-theta.relative_error), theta.radians * std::exp(theta.relative_error)},
-                                      std::array<double, 2>{theta.radians * std::exp(-2 * theta.relative_error), theta.radians * std::exp(2 * theta.relative_error)}};
+    Estimate given;
+    given.value = theta.radians;
+    given.error = theta.radians * theta.relative_error;
+    given.interval_68 = {theta.radians * std::exp(-theta.relative_error), theta.radians * std::exp(theta.relative_error)};
+    given.interval_95 = {theta.radians * std::exp(-2 * theta.relative_error), theta.radians * std::exp(2 * theta.relative_error)};
+    out.angular_radius_rad = given;
     if (distance) {
       out.radius_m = propagation.positive([&](const std::vector<double>&) { return theta.radians * angular_to_radius; }, 1.0,
                                           theta.relative_error * theta.relative_error);

@@ -28,6 +28,7 @@
 //                          (Hildebrand 1983, QJRAS 24, 267); z = 0 only.
 #pragma once
 
+#include <functional>
 #include <optional>
 #include <string>
 #include <vector>
@@ -70,10 +71,18 @@ struct ModelQuantities {
 // the free parameters' internal values is g.
 double quadratic_form(const ModelFitResult& fit, const std::vector<double>& g);
 
+// How a derived quantity gets its intervals when they are not the delta method's: given the quantity
+// as a function of all internal values, and the extra variance of its logarithm from the distance,
+// it replaces the linearised estimate's intervals (profile: the range over the profile points;
+// posterior: percentiles over the samples). Parameters are not passed through it.
+using IntervalRule = std::function<void(const std::function<double(const std::vector<double>&)>& quantity,
+                                        double extra_log_variance, Estimate& estimate)>;
+
 // Throws InputError for a non-positive distance ("options.distance") or opacity
 // ("model.dust_opacity").
 ModelQuantities derive_model_quantities(const ModelFitResult& fit, const FluxDensityUnit& y_unit,
                                         const std::optional<Distance>& distance,
-                                        const std::optional<DustOpacityInput>& dust_opacity);
+                                        const std::optional<DustOpacityInput>& dust_opacity,
+                                        const IntervalRule& rule = {});
 
 }  // namespace planckton

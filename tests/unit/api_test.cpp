@@ -952,3 +952,65 @@ TEST(ApiModels, ModelDocumentLabelsFramesComponentsAndExtinction) {
   EXPECT_EQ(two["components"][0]["component"], "cooler");
   for (const auto& warning : two["warnings"]) EXPECT_TRUE(warning["code"].is_string());
 }
+
+// ---- intervals: covariance, profile, posterior (model_intervals.h) --------------------------
+
+TEST(ApiIntervals, ProfileGivesALowerLimitOnTheRayleighJeansSide) {
+  // Source: profile_likelihood.h (an open side is reported as a one-sided limit, never closed).
+  json request = valid_request(40);
+  json x = json::array(), y = json::array(), e = json::array();
+  const auto flux = planckton::parse_flux_density_unit("W/m2/nm");
+  for (int i = 0; i < 40; ++i) {
+    const double nm = 30000.0 + 7000.0 * i;  // 30-300 um: x = h nu / k T < 0.06 at 8000 K
+    const double v = 1e-18 * planckton::planck_radiance(flux.convention, planckton::constants::kSpeedOfLight / (nm * 1e-9), 8000.0) / flux.to_si;
+    x.push_back(nm);
+    y.push_back(v * (1.0 + 0.02 * std::sin(7.0 * i)));
+    e.push_back(0.02 * v);
+  }
+  request["spectrum"]["x"] = x;
+  request["spectrum"]["y"] = y;
+  request["spectrum"]["y_error"] = e;
+  request["options"] = {{"intervals", "profile"}};
+  const json r = planckton::api::fit_document(request);
+  const json& t = r["parameters"]["temperature"];
+  EXPECT_EQ(t["one_sided"], "lower_limit");
+  // Open at 95 % at least: the upper end is null there, the lower end a limit.
+  EXPECT_TRUE(t["interval_95"][1].is_null()) << t.dump();
+  EXPECT_TRUE(t["interval_95"][0].is_number()) << t.dump();
+  EXPECT_EQ(r["intervals"]["method"], "profile");
+  bool warned = false;
+  for (const auto& w : r["warnings"]) warned = warned || w["code"] == "lower_limit_only";
+  EXPECT_TRUE(warned);
+}
+
+TEST(ApiIntervals, PosteriorIsReproducibleBySeedAndCloseToTheCovarianceOnAGoodProblem) {
+  // Source: ensemble_sampler.h (same seed, same draws).
+  json request = valid_request(60);
+  request["options"] = {{"intervals", "posterior"}, {"seed", 11}, {"posterior", {{"steps", 1500}, {"samples", 10}}}};
+  const json a = planckton::api::fit_document(request);
+  const json b = planckton::api::fit_document(request);
+  EXPECT_EQ(a["parameters"], b["parameters"]);
+  EXPECT_EQ(a["intervals"]["samples"]["draws"].size(), 10u);
+  request["options"]["seed"] = 12;
+  const json c = planckton::api::fit_document(request);
+  EXPECT_NE(a["parameters"]["temperature"]["median"], c["parameters"]["temperature"]["median"]);
+  // A nearly Gaussian problem: the posterior's 68 % interval is the covariance's to a few per cent.
+  const json cov = planckton::api::fit_document(valid_request(60));
+  const double width = a["parameters"]["temperature"]["interval_68"][1].get<double>() - a["parameters"]["temperature"]["interval_68"][0].get<double>();
+  const double expected = cov["parameters"]["temperature"]["interval_68"][1].get<double>() - cov["parameters"]["temperature"]["interval_68"][0].get<double>();
+  EXPECT_NEAR(width / expected, 1.0, 0.1);
+  EXPECT_TRUE(a["peaks"]["wavelength"]["median"].is_number());
+}
+
+TEST(ApiIntervals, SamplerSettingsAreCheckedAndApplyToThePosteriorOnly) {
+  // Source: fit_request.h (options.seed and options.posterior need intervals "posterior").
+  json request = valid_request(20);
+  request["options"] = {{"seed", 3}};
+  expect_invalid_at(problem_of_document(request), "/options/seed");
+  request["options"] = {{"intervals", "bootstrap"}};
+  expect_invalid_at(problem_of_document(request), "/options/intervals");
+  request["options"] = {{"intervals", "posterior"}, {"posterior", {{"walkers", 7}}}};
+  expect_invalid_at(problem_of_document(request), "/options/posterior/walkers");
+  request["options"] = {{"intervals", "posterior"}, {"posterior", {{"steps", 100}, {"burn_in", 100}}}};
+  expect_invalid_at(problem_of_document(request), "/options/posterior/burn_in");
+}

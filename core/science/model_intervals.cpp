@@ -1,0 +1,167 @@
+#include "science/model_intervals.h"
+
+#include <algorithm>
+#include <cmath>
+#include <limits>
+
+#include "science/input_error.h"
+#include "science/profile_likelihood.h"
+
+namespace planckton {
+
+namespace {
+
+using Quantity = std::function<double(const std::vector<double>&)>;
+
+constexpr double kNaN = std::numeric_limits<double>::quiet_NaN();
+// Percentiles of a standard normal at -1, +1, -2 and +2 sigma: the posterior's 68.27 % and 95.45 %.
+constexpr std::array<double, 2> kLowerQuantile = {0.158655253931457, 0.0227501319481792};
+constexpr std::array<double, 2> kUpperQuantile = {0.841344746068543, 0.977249868051821};
+// Derived quantities are evaluated on at most this many draws (their percentiles' Monte Carlo error
+// is then below a tenth of their width); parameters use every draw.
+constexpr std::size_t kDerivedDraws = 1000;
+
+// [lo, hi] around v widened in the logarithm by an independent extra variance (the distance's):
+// each side's log distance d becomes sqrt(d^2 + k^2 extra) at k sigma.
+std::array<double, 2> widened(double v, std::array<double, 2> range, double extra_log_variance, double k) {
+  if (!(extra_log_variance > 0.0) || !(v > 0.0)) return range;
+  const double add = k * k * extra_log_variance;
+  if (range[0] > 0.0) range[0] = v * std::exp(-std::sqrt(std::pow(std::log(v / range[0]), 2) + add));
+  if (range[1] > 0.0) range[1] = v * std::exp(std::sqrt(std::pow(std::log(range[1] / v), 2) + add));
+  return range;
+}
+
+void set_intervals(Estimate& e, const std::array<std::array<double, 2>, 2>& ranges, double extra_log_variance) {
+  e.interval_68 = widened(e.value, ranges[0], extra_log_variance, 1.0);
+  e.interval_95 = widened(e.value, ranges[1], extra_log_variance, 2.0);
+}
+
+// The relative error of a known angular radius enters the dilution factor (zeta ~ 1 / theta) besides
+// the fit.
+double parameter_extra_log_variance(const ModelFitResult& fit, const FittedParameter& p) {
+  if (p.info.name != "dilution_factor" || !fit.spec.angular_radius) return 0.0;
+  return fit.spec.angular_radius->relative_error * fit.spec.angular_radius->relative_error;
+}
+
+void apply_profile(const ModelFitResult& fit, const ProfileResult& profile, ModelIntervals& out) {
+  for (std::size_t i = 0; i < fit.free.size(); ++i) {
+    const FittedParameter& p = fit.parameters[fit.free[i]];
+    const ProfileBounds& b = profile.parameters[i];
+    Estimate& e = out.quantities.parameters[fit.free[i]];
+    std::array<std::array<double, 2>, 2> ranges{};
+    for (std::size_t level = 0; level < 2; ++level) {
+      ranges[level] = {b.lower[level] ? p.info.natural(*b.lower[level]) : kNaN,
+                       b.upper[level] ? p.info.natural(*b.upper[level]) : kNaN};
+    }
+    set_intervals(e, ranges, parameter_extra_log_variance(fit, p));
+    if (b.lower_open != b.upper_open) {
+      e.one_sided = b.upper_open ? OneSided::kLowerLimit : OneSided::kUpperLimit;
+      out.warnings.push_back({b.upper_open ? "lower_limit_only" : "upper_limit_only",
+                              p.info.name + ": " + (b.upper_open ? "lower" : "upper") +
+                                  " limit only (the profile does not rise by the threshold before the parameter's "
+                                  "bound): the interval's open end is null, the other end a one-sided limit"});
+    } else if (b.lower_open && b.upper_open) {
+      out.warnings.push_back({"unconstrained", p.info.name + ": the profile stays within the thresholds between both "
+                                                             "bounds: the data do not constrain it"});
+    }
+  }
+}
+
+std::vector<double> draw(const EnsembleSamplerResult& chain, std::size_t k) {
+  return {chain.samples.begin() + static_cast<std::ptrdiff_t>(k * chain.dimension),
+          chain.samples.begin() + static_cast<std::ptrdiff_t>((k + 1) * chain.dimension)};
+}
+
+void set_percentiles(Estimate& e, std::vector<double> values, double extra_log_variance) {
+  values.erase(std::remove_if(values.begin(), values.end(), [](double v) { return !std::isfinite(v); }), values.end());
+  if (values.empty()) return;
+  e.median = quantile(values, 0.5);
+  std::array<std::array<double, 2>, 2> ranges{};
+  for (std::size_t level = 0; level < 2; ++level) {
+    ranges[level] = {quantile(values, kLowerQuantile[level]), quantile(values, kUpperQuantile[level])};
+  }
+  set_intervals(e, ranges, extra_log_variance);
+}
+
+}  // namespace
+
+ModelIntervals model_intervals(const ModelData& data, const ModelFitResult& fit, const ModelFitOptions& options,
+                               const IntervalOptions& intervals, const FluxDensityUnit& y_unit,
+                               const std::optional<Distance>& distance,
+                               const std::optional<DustOpacityInput>& dust_opacity) {
+  ModelIntervals out;
+  if (intervals.method == IntervalMethod::kCovariance || fit.free.empty()) {
+    out.quantities = derive_model_quantities(fit, y_unit, distance, dust_opacity);
+    return out;
+  }
+  const ModelPosterior posterior(data, fit, options);
+  const std::vector<double> best = posterior.at_fit();
+  const auto on_free = [&](const Quantity& q) {
+    return [&posterior, q](const std::vector<double>& x) { return q(posterior.all_internal(x.data())); };
+  };
+
+  if (intervals.method == IntervalMethod::kProfile) {
+    const ProfileResult profile = profile_intervals(posterior, fit);
+    out.profile_evaluations = profile.evaluations;
+    out.profile_found_lower_minimum = profile.minimum_moved;
+    const IntervalRule rule = [&](const Quantity& q, double extra, Estimate& e) {
+      set_intervals(e, profile_range(profile, best, on_free(q)), extra);
+    };
+    out.quantities = derive_model_quantities(fit, y_unit, distance, dust_opacity, rule);
+    apply_profile(fit, profile, out);
+    if (profile.minimum_moved) {
+      out.warnings.push_back({"profile_found_lower_minimum",
+                              "a profile found a lower -2 ln p than the fit's minimum: the fit may have stopped short "
+                              "of the optimum; the intervals are relative to the fit's"});
+    }
+    return out;
+  }
+
+  const double work = static_cast<double>(intervals.sampler.walkers) * intervals.sampler.steps * static_cast<double>(data.nodes.size());
+  if (work > kMaxPosteriorWork) {
+    throw InputError("options.posterior", "asks for " + std::to_string(static_cast<long long>(work)) +
+                                              " model evaluations (walkers x steps x points); this service allows " +
+                                              std::to_string(static_cast<long long>(kMaxPosteriorWork)) +
+                                              ": fewer steps or walkers, or fewer points");
+  }
+  // The posterior: walkers start in a small ball around the fit, scaled by the covariance's sigmas.
+  std::vector<double> scale;
+  for (std::size_t p : fit.free) scale.push_back(fit.parameters[p].internal_sigma.value_or(0.1));
+  EnsembleSamplerResult chain = sample_ensemble(
+      [&posterior](const double* x) { return posterior.log_probability(x); }, best, scale, intervals.sampler);
+  const std::size_t draws = chain.draws();
+  const std::size_t stride = std::max<std::size_t>(1, draws / kDerivedDraws);
+  const IntervalRule rule = [&](const Quantity& q, double extra, Estimate& e) {
+    std::vector<double> values;
+    for (std::size_t k = 0; k < draws; k += stride) values.push_back(q(posterior.all_internal(draw(chain, k).data())));
+    set_percentiles(e, std::move(values), extra);
+  };
+  out.quantities = derive_model_quantities(fit, y_unit, distance, dust_opacity, rule);
+  for (std::size_t i = 0; i < fit.free.size(); ++i) {
+    const FittedParameter& p = fit.parameters[fit.free[i]];
+    std::vector<double> values(draws);
+    for (std::size_t k = 0; k < draws; ++k) values[k] = p.info.natural(chain.samples[k * chain.dimension + i]);
+    set_percentiles(out.quantities.parameters[fit.free[i]], std::move(values), parameter_extra_log_variance(fit, p));
+  }
+  if (!chain.converged) {
+    out.warnings.push_back({"posterior_not_converged",
+                            "the chain is shorter than 50 autocorrelation times (or its acceptance fraction is outside "
+                            "0.1-0.9): the percentiles are rough; ask for more options.posterior.steps"});
+  }
+  if (intervals.samples_returned > 0) {
+    const std::size_t every = std::max<std::size_t>(1, (draws + intervals.samples_returned - 1) / intervals.samples_returned);
+    for (std::size_t k = 0; k < draws; k += every) {
+      std::vector<double> row;
+      for (std::size_t i = 0; i < fit.free.size(); ++i) {
+        row.push_back(fit.parameters[fit.free[i]].info.natural(chain.samples[k * chain.dimension + i]));
+      }
+      out.returned_samples.push_back(std::move(row));
+    }
+  }
+  chain.samples.clear();
+  chain.log_probability.clear();
+  out.chain = std::move(chain);
+  return out;
+}
+
+}  // namespace planckton
