@@ -19,6 +19,7 @@
 #include "science/ensemble_sampler.h"
 #include "science/extinction.h"
 #include "science/model_fit.h"
+#include "science/model_intervals.h"
 #include "science/model_quantities.h"
 #include "science/photometry_fit.h"
 #include "science/planck.h"
@@ -111,6 +112,26 @@ void BM_PosteriorSamples(benchmark::State& state) {
   }
 }
 BENCHMARK(BM_PosteriorSamples)->Arg(1000)->Unit(benchmark::kMillisecond);
+
+// Profile-likelihood intervals (science/profile_likelihood.h) of the same 2-parameter fit of
+// BM_FitSpectrum's 1,000 points: the fit through the model engine, the profiles of both parameters
+// at Delta = 1 and 4 on both sides, and the derived quantities over the profile points. Target
+// (issue): at most 20x the plain fit (BM_FitSpectrum/1000, in the same run).
+void BM_ProfileIntervals(benchmark::State& state) {
+  const SpectrumInput input = bench::synthetic_spectrum(static_cast<int>(state.range(0)));
+  const ModelFitOptions fit_options;
+  IntervalOptions intervals;
+  intervals.method = IntervalMethod::kProfile;
+  for (auto _ : state) {
+    const MeasuredSpectrum spectrum = prepare_spectrum(input);
+    const ModelData data = model_data(spectrum);
+    const ModelFitResult fit = fit_model(data, ModelSpec{}, fit_options);
+    const ModelIntervals result = model_intervals(data, fit, fit_options, intervals, spectrum.y_unit, std::nullopt, std::nullopt);
+    benchmark::DoNotOptimize(result.quantities.parameters.front().interval_68);
+    state.counters["profiles"] = static_cast<double>(result.profile_evaluations);
+  }
+}
+BENCHMARK(BM_ProfileIntervals)->Arg(1000)->Unit(benchmark::kMicrosecond);
 
 // The model family: a complete fit (preparation, start search, solve, covariance, derived
 // quantities) of 1,000 points simulated from the model itself with 1 % noise, for every kind, and

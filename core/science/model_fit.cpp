@@ -54,28 +54,34 @@ class ItemModel {
     const ModelData::Item& last = data_.items[end - 1];
     const Eigen::Index count = static_cast<Eigen::Index>(last.first_node + last.node_count) - first;
     nodes_.evaluate(u, first, count, with_derivatives, only_component);
+    first_node_ = first;
+    if (!data_.bands) return;  // a spectrum point is the model at its frequency: read the nodes directly
     for (std::size_t j = begin; j < end; ++j) {
       const ModelData::Item& item = data_.items[j];
       const Eigen::Index row = static_cast<Eigen::Index>(j);
       const Eigen::Index k = static_cast<Eigen::Index>(item.first_node) - first;
       const Eigen::Index n = static_cast<Eigen::Index>(item.node_count);
-      if (!data_.bands) {  // a spectrum point is the model at its frequency
-        flux_[row] = nodes_.value()[k];
-        if (with_derivatives) flux_derivatives_.row(row) = nodes_.derivatives().row(k);
-        continue;
-      }
       const auto w = weight_.segment(static_cast<Eigen::Index>(item.first_node), n);
       flux_[row] = (w * nodes_.value().segment(k, n)).sum();
       if (with_derivatives) flux_derivatives_.row(row) = (nodes_.derivatives().middleRows(k, n).colwise() * w).colwise().sum();
     }
   }
-  const Eigen::ArrayXd& flux() const { return flux_; }
-  const Eigen::ArrayXXd& flux_derivatives() const { return flux_derivatives_; }
+  // After evaluate(): F_j and d F_j / d u_p of an item in the range evaluated.
+  double flux(std::size_t j) const {
+    const Eigen::Index row = static_cast<Eigen::Index>(j);
+    return data_.bands ? flux_[row] : nodes_.value()[row - first_node_];
+  }
+  double flux_derivative(std::size_t j, std::size_t p) const {
+    const Eigen::Index row = static_cast<Eigen::Index>(j), col = static_cast<Eigen::Index>(p);
+    return data_.bands ? flux_derivatives_(row, col) : nodes_.derivatives()(row - first_node_, col);
+  }
+
 
   // F_j of every item (of one component when only_component >= 0).
   Eigen::ArrayXd item_values(const std::vector<double>& u, int only_component = -1) const {
     evaluate(u.data(), 0, data_.items.size(), false, only_component);
-    return flux_;
+    if (data_.bands) return flux_;
+    return nodes_.value().head(static_cast<Eigen::Index>(data_.items.size()));
   }
 
   // The residual of item j and d r / d F.
@@ -120,8 +126,9 @@ class ItemModel {
   const ModelData& data_;
   NodeModel nodes_;
   Eigen::ArrayXd weight_;
-  mutable Eigen::ArrayXd flux_;
+  mutable Eigen::ArrayXd flux_;             // bands only
   mutable Eigen::ArrayXXd flux_derivatives_;
+  mutable Eigen::Index first_node_ = 0;     // of the range evaluated last
 };
 
 // Residuals of the items [begin, end) for ceres::Problem, one parameter block of size 1 per
@@ -140,13 +147,13 @@ class ItemResiduals final : public ceres::CostFunction {
     model_->evaluate(u_.data(), begin_, end_, true);
     for (std::size_t j = begin_; j < end_; ++j) {
       const std::size_t row = j - begin_;
-      const ItemModel::Residual r = model_->residual(j, model_->flux()[static_cast<Eigen::Index>(j)], *sigma_);
+      const ItemModel::Residual r = model_->residual(j, model_->flux(j), *sigma_);
       residuals[row] = r.value;
       if (!std::isfinite(r.value)) return false;
       if (jacobians == nullptr) continue;
       for (std::size_t p = 0; p < u_.size(); ++p) {
         if (jacobians[p] != nullptr) {
-          jacobians[p][row] = r.d_model * model_->flux_derivatives()(static_cast<Eigen::Index>(j), static_cast<Eigen::Index>(p));
+          jacobians[p][row] = r.d_model * model_->flux_derivative(j, p);
         }
       }
     }
@@ -382,8 +389,7 @@ class StartSearch {
   // Per start item: the component's value at unit scale.
   Eigen::ArrayXd unit_values(std::vector<double> u, int c) const {
     u[static_cast<std::size_t>(layout_.scale[static_cast<std::size_t>(c)])] = 0.0;
-    model_.evaluate(u.data(), 0, data_.items.size(), false, c);
-    return model_.flux();
+    return model_.item_values(u, c);
   }
 
   double censored_cost(const Eigen::ArrayXd& model) const {
@@ -967,6 +973,9 @@ struct ModelPosterior::Impl {
   double loss_scale;
   std::vector<double> lower, upper;  // internal bounds of the free parameters
   mutable std::vector<double> u;
+  // Profiles evaluate their trial points with the Jacobian, so that an accepted point's comes from
+  // the model's cache; sampling needs none.
+  mutable bool with_derivatives = false;
 
   Impl(const ModelData& data, const ModelFitResult& f, const ModelFitOptions& options)
       : fit(f), infos(model_parameters(f.spec)), model(data, f.spec, infos), loss(options.solver.loss),
@@ -992,10 +1001,10 @@ struct ModelPosterior::Impl {
   // sum of rho(r^2) (plain: chi^2) over the items, or +inf where the model is not finite.
   double cost(const double* x, bool plain) const {
     const std::vector<double>& all = full(x);
-    const Eigen::ArrayXd f = model.item_values(all);
+    model.evaluate(all.data(), 0, sigma.size(), with_derivatives);
     double sum = 0.0;
     for (std::size_t j = 0; j < sigma.size(); ++j) {
-      const double r = model.residual(j, f[static_cast<Eigen::Index>(j)], sigma).value;
+      const double r = model.residual(j, model.flux(j), sigma).value;
       sum += plain ? r * r : ceres_settings::robust_rho(loss, loss_scale, r * r);
     }
     return std::isfinite(sum) ? sum : HUGE_VAL;
@@ -1052,6 +1061,11 @@ double ModelPosterior::profile(std::size_t fixed, double value, std::vector<doub
   const Impl& m = *impl_;
   const std::size_t dim = m.fit.free.size();
   x[fixed] = value;
+  m.with_derivatives = true;
+  struct Reset {
+    const Impl& m;
+    ~Reset() { m.with_derivatives = false; }
+  } reset{m};
   const auto total = [&](const std::vector<double>& at) {
     const double lp = log_probability(at.data());
     return std::isfinite(lp) ? -2.0 * lp : HUGE_VAL;
@@ -1068,20 +1082,20 @@ double ModelPosterior::profile(std::size_t fixed, double value, std::vector<doub
   for (int iteration = 0; iteration < 100; ++iteration) {
     // Residuals and Jacobian (in the moving parameters) of the data and the priors, IRLS-weighted.
     const std::vector<double>& all = m.full(x.data());
-    m.model.evaluate(all.data(), 0, n, true);
+    m.model.evaluate(all.data(), 0, n, true);  // usually from the cache: the accepted trial point
     Eigen::MatrixXd jtj = Eigen::MatrixXd::Zero(k, k);
     Eigen::VectorXd jtr = Eigen::VectorXd::Zero(k);
-    Eigen::VectorXd row(k);
+    std::vector<double> row(static_cast<std::size_t>(k));
     for (std::size_t j = 0; j < n; ++j) {
-      const ItemModel::Residual r = m.model.residual(j, m.model.flux()[static_cast<Eigen::Index>(j)], m.sigma);
+      const ItemModel::Residual r = m.model.residual(j, m.model.flux(j), m.sigma);
       const double w = robust_weight(m.loss, m.loss_scale, r.value * r.value);
-      for (Eigen::Index a = 0; a < k; ++a) {
-        const std::size_t p = m.fit.free[moving[static_cast<std::size_t>(a)]];
-        row[a] = r.d_model * m.model.flux_derivatives()(static_cast<Eigen::Index>(j), static_cast<Eigen::Index>(p));
+      for (std::size_t a = 0; a < row.size(); ++a) row[a] = r.d_model * m.model.flux_derivative(j, m.fit.free[moving[a]]);
+      for (std::size_t a = 0; a < row.size(); ++a) {
+        jtr[static_cast<Eigen::Index>(a)] += w * r.value * row[a];
+        for (std::size_t b = 0; b <= a; ++b) jtj(static_cast<Eigen::Index>(a), static_cast<Eigen::Index>(b)) += w * row[a] * row[b];
       }
-      jtj.noalias() += w * row * row.transpose();
-      jtr += w * r.value * row;
     }
+    jtj = jtj.selfadjointView<Eigen::Lower>();
     for (Eigen::Index a = 0; a < k; ++a) {
       const std::size_t i = moving[static_cast<std::size_t>(a)];
       const FittedParameter& fp = m.fit.parameters[m.fit.free[i]];

@@ -2,7 +2,8 @@
 // data bound a parameter on one side only.
 //
 // Method. For a parameter theta, the profile is -2 ln p minimised over all the others with theta
-// held fixed (ModelPosterior::profile: Levenberg-Marquardt from the neighbouring profile point).
+// held fixed (ModelPosterior::profile: Levenberg-Marquardt from the others' conditional mean under
+// the covariance, best + C_ji / C_ii (theta - best_i)).
 // The interval at level L is where the profile rises by Delta above its minimum: Delta = 1 for
 // 68.27 % and 4 for 95.45 % (Wilks 1938; e.g. W. A. Rolke, A. M. Lopez & J. Conrad, NIM A 551, 493
 // (2005); Press et al., Numerical Recipes, 3rd ed., 15.6.5). Each side steps out from the best fit
