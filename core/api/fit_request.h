@@ -12,7 +12,7 @@
 //                   "systematic_error": 0.02,                          photometry: fraction of flux
 //                   "intervals": "covariance" | "profile" | "posterior",
 //                   "seed": 1,                                          posterior: same seed, same answer
-//                   "posterior": { "walkers": 32, "steps": 700, "burn_in": 200, "samples": 0 },
+//                   "posterior": { "walkers": 32, "steps": 2000, "burn_in": 300, "samples": 0 },
 //                   "max_iterations": 200, "time_budget_seconds": 10 } }
 //
 // The text is parsed with simdjson (its DOM API: the arrays of a 1,000-point spectrum are read in

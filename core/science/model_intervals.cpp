@@ -31,6 +31,16 @@ std::array<double, 2> widened(double v, std::array<double, 2> range, double extr
   return range;
 }
 
+// The inverse of widened: the interval without the extra variance (the delta method's intervals of
+// distance-dependent quantities include it, and set_intervals adds it once more).
+std::optional<std::array<double, 2>> without_extra(double v, const std::optional<std::array<double, 2>>& range,
+                                                   double extra_log_variance, double k) {
+  if (!range || !(extra_log_variance > 0.0) || !(v > 0.0)) return range;
+  const double remove = k * k * extra_log_variance;
+  const auto shrink = [&](double d) { return std::sqrt(std::max(d * d - remove, 0.0)); };
+  return std::array<double, 2>{v * std::exp(-shrink(std::log(v / (*range)[0]))), v * std::exp(shrink(std::log((*range)[1] / v)))};
+}
+
 void set_intervals(Estimate& e, const std::array<std::array<double, 2>, 2>& ranges, double extra_log_variance) {
   e.interval_68 = widened(e.value, ranges[0], extra_log_variance, 1.0);
   e.interval_95 = widened(e.value, ranges[1], extra_log_variance, 2.0);
@@ -105,7 +115,11 @@ ModelIntervals model_intervals(const ModelData& data, const ModelFitResult& fit,
     out.profile_evaluations = profile.evaluations;
     out.profile_found_lower_minimum = profile.minimum_moved;
     const IntervalRule rule = [&](const Quantity& q, double extra, Estimate& e) {
-      set_intervals(e, profile_range(profile, best, on_free(q)), extra);
+      const QuantityProfile p = profile_quantity(profile, best, on_free(q),
+                                                 {without_extra(e.value, e.interval_68, extra, 1.0),
+                                                  without_extra(e.value, e.interval_95, extra, 2.0)});
+      set_intervals(e, p.intervals, extra);
+      if (p.lower_open != p.upper_open) e.one_sided = p.upper_open ? OneSided::kLowerLimit : OneSided::kUpperLimit;
     };
     out.quantities = derive_model_quantities(fit, y_unit, distance, dust_opacity, rule);
     apply_profile(fit, profile, out);

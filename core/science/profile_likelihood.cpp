@@ -4,6 +4,7 @@
 
 #include <algorithm>
 #include <cmath>
+#include <limits>
 
 namespace planckton {
 
@@ -75,7 +76,7 @@ void profile_side(const ModelPosterior& posterior, const ModelFitResult& fit, st
     if (crossing == path.end()) {
       // Open: the last point followed (at the bound) stands for the side in the derived quantities.
       (direction < 0 ? bounds.lower_open : bounds.upper_open) = true;
-      bounds.points[level].push_back(path.back().x);
+      bounds.open_points[level].push_back(path.back().x);
       continue;
     }
     ProfilePoint a = *(crossing - 1), b = *crossing;
@@ -109,6 +110,7 @@ ProfileResult profile_intervals(const ModelPosterior& posterior, const ModelFitR
   ProfileResult result;
   const std::vector<double> best = posterior.at_fit();
   result.minimum = -2.0 * posterior.log_probability(best.data());
+  for (std::size_t i = 0; i < posterior.dimension(); ++i) result.bounds.push_back(posterior.bounds(i));
   for (std::size_t i = 0; i < posterior.dimension(); ++i) {
     const FittedParameter& p = fit.parameters[fit.free[i]];
     // Step from the covariance's sigma; without one, a tenth of an e-fold (or of a unit for beta, E).
@@ -121,24 +123,57 @@ ProfileResult profile_intervals(const ModelPosterior& posterior, const ModelFitR
   return result;
 }
 
-std::array<std::array<double, 2>, 2> profile_range(const ProfileResult& profile, const std::vector<double>& best,
-                                                   const std::function<double(const std::vector<double>&)>& q) {
+QuantityProfile profile_quantity(const ProfileResult& profile, const std::vector<double>& best,
+                                 const std::function<double(const std::vector<double>&)>& q,
+                                 const std::array<std::optional<std::array<double, 2>>, 2>& linearised) {
   const double at_best = q(best);
-  std::array<std::array<double, 2>, 2> range = {{{at_best, at_best}, {at_best, at_best}}};
-  for (const ProfileBounds& bounds : profile.parameters) {
-    for (std::size_t level = 0; level < 2; ++level) {
-      for (const std::vector<double>& x : bounds.points[level]) {
-        const double v = q(x);
-        if (!std::isfinite(v)) continue;
-        range[level][0] = std::min(range[level][0], v);
-        range[level][1] = std::max(range[level][1], v);
+  // A crossing of one parameter may have driven another to its bound (the temperature, when the data
+  // bound it from below only): such a point belongs with the open sides.
+  const auto at_a_bound = [&](const std::vector<double>& x) {
+    for (std::size_t j = 0; j < x.size() && j < profile.bounds.size(); ++j) {
+      for (double b : profile.bounds[j]) {
+        if (std::isfinite(b) && std::abs(x[j] - b) <= 1e-9 * (1.0 + std::abs(b))) return true;
       }
     }
+    return false;
+  };
+  QuantityProfile out;
+  out.intervals = {{{at_best, at_best}, {at_best, at_best}}};
+  std::array<std::vector<const std::vector<double>*>, 2> open;
+  for (std::size_t level = 0; level < 2; ++level) {
+    auto& range = out.intervals[level];
+    for (const ProfileBounds& bounds : profile.parameters) {
+      for (const std::vector<double>& x : bounds.open_points[level]) open[level].push_back(&x);
+      for (const std::vector<double>& x : bounds.points[level]) {
+        if (at_a_bound(x)) {
+          open[level].push_back(&x);
+          continue;
+        }
+        const double v = q(x);
+        if (!std::isfinite(v)) continue;
+        range[0] = std::min(range[0], v);
+        range[1] = std::max(range[1], v);
+      }
+    }
+    if (level == 1) {  // the 95 % range contains the 68 % one
+      range[0] = std::min(range[0], out.intervals[0][0]);
+      range[1] = std::max(range[1], out.intervals[0][1]);
+    }
+    if (linearised[level]) {
+      range[0] = std::min(range[0], (*linearised[level])[0]);
+      range[1] = std::max(range[1], (*linearised[level])[1]);
+    }
+    for (const std::vector<double>* x : open[level]) {
+      const double v = q(*x);
+      if (!(v >= range[0])) out.lower_open = true;
+      if (!(v <= range[1])) out.upper_open = true;
+    }
   }
-  // The 95 % range contains the 68 % one.
-  range[1][0] = std::min(range[1][0], range[0][0]);
-  range[1][1] = std::max(range[1][1], range[0][1]);
-  return range;
+  for (auto& range : out.intervals) {
+    if (out.lower_open) range[0] = std::numeric_limits<double>::quiet_NaN();
+    if (out.upper_open) range[1] = std::numeric_limits<double>::quiet_NaN();
+  }
+  return out;
 }
 
 }  // namespace planckton

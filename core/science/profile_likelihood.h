@@ -13,10 +13,11 @@
 // its one-sided level (Delta = 1: 84.13 %, Delta = 4: 97.72 %), and no closed interval is invented.
 //
 // Derived quantities get the range of their values over the profile points at each threshold (the
-// parameter vectors found at the crossings of every parameter, and the best fit; on an open side the
-// point at the bound): for a quantity that is a monotone function of one parameter (a Planck peak of
-// T) this is its profile interval exactly; otherwise it is the envelope of the parameters' profiles,
-// and the response says so.
+// parameter vectors found at the crossings of every parameter, and the best fit): for a quantity that
+// is a monotone function of one parameter (a Planck peak of T) this is its profile interval exactly.
+// For a quantity that combines parameters that range is narrower than its own profile, so it is
+// widened to at least the delta method's interval. An end whose value at an open side's bound lies
+// beyond the range is open, as for the parameter.
 //
 // Example:
 //   planckton::ModelPosterior posterior(data, fit, options);
@@ -43,13 +44,15 @@ struct ProfileBounds {
   std::array<std::optional<double>, 2> lower, upper;
   bool lower_open = false;  // the profile did not rise by a threshold before the lower bound
   bool upper_open = false;
-  // The free-parameter vectors at the crossings (for derived quantities), per threshold; on an open
-  // side the last point followed (at the bound).
+  // The free-parameter vectors at the crossings (for derived quantities), per threshold, and on an
+  // open side the last point followed (at the bound).
   std::array<std::vector<std::vector<double>>, 2> points;
+  std::array<std::vector<std::vector<double>>, 2> open_points;
 };
 
 struct ProfileResult {
   std::vector<ProfileBounds> parameters;  // one per free parameter, in fit.free order
+  std::vector<std::array<double, 2>> bounds;  // each free parameter's internal bounds
   double minimum = 0.0;                   // -2 ln p at the best fit (after re-minimising)
   std::size_t evaluations = 0;            // profile minimisations
   bool minimum_moved = false;             // a profile found a lower minimum than the fit's
@@ -57,9 +60,17 @@ struct ProfileResult {
 
 ProfileResult profile_intervals(const ModelPosterior& posterior, const ModelFitResult& fit);
 
-// The range of q over the profile points at each threshold (and the best fit), as (lo, hi) per
-// threshold. q takes the free-parameter vector.
-std::array<std::array<double, 2>, 2> profile_range(const ProfileResult& profile, const std::vector<double>& best,
-                                                   const std::function<double(const std::vector<double>&)>& q);
+// A derived quantity's intervals from the profiles, per threshold (68 %, 95 %): the range of q over
+// the crossing points and the best fit, widened to at least `linearised` (the delta method's
+// interval, when there is one: the points' range alone is narrower than the profile of a quantity
+// that combines parameters), with an end open (NaN) where q at an open side's bound point lies beyond
+// it. q takes the free-parameter vector.
+struct QuantityProfile {
+  std::array<std::array<double, 2>, 2> intervals;
+  bool lower_open = false, upper_open = false;
+};
+QuantityProfile profile_quantity(const ProfileResult& profile, const std::vector<double>& best,
+                                 const std::function<double(const std::vector<double>&)>& q,
+                                 const std::array<std::optional<std::array<double, 2>>, 2>& linearised);
 
 }  // namespace planckton

@@ -75,13 +75,27 @@ TEST(ProfileLikelihood, WienSideIntervalsAreAsymmetric) {
   EXPECT_GT((above - below) / (below + above), 0.02) << below << " " << above;
 }
 
-TEST(ProfileLikelihood, RangeOfADerivedQuantityFollowsItsParameter) {
+TEST(ProfileLikelihood, DerivedQuantityOfOneParameterSpansItsProfileAndOpensWithIt) {
   // A quantity monotone in T alone (here T itself, as a Planck peak is) spans T's profile interval.
   const Profiled p = profile_of(5000.0, 0.3, 2.0, 100, 0.01, 4);
-  const auto range = profile_range(p.profile, {p.fit.parameters[0].internal, p.fit.parameters[1].internal},
-                                   [](const std::vector<double>& x) { return std::exp(x[0]); });
-  EXPECT_NEAR(range[0][0], std::exp(*p.profile.parameters[0].lower[0]), 1e-9 * 5000.0);
-  EXPECT_NEAR(range[1][1], std::exp(*p.profile.parameters[0].upper[1]), 1e-9 * 5000.0);
+  const std::vector<double> best = {p.fit.parameters[0].internal, p.fit.parameters[1].internal};
+  const auto t = [](const std::vector<double>& x) { return std::exp(x[0]); };
+  const QuantityProfile q = profile_quantity(p.profile, best, t, {std::nullopt, std::nullopt});
+  EXPECT_NEAR(q.intervals[0][0], std::exp(*p.profile.parameters[0].lower[0]), 1e-9 * 5000.0);
+  EXPECT_NEAR(q.intervals[1][1], std::exp(*p.profile.parameters[0].upper[1]), 1e-9 * 5000.0);
+  EXPECT_FALSE(q.lower_open || q.upper_open);
+  // A combination of parameters is widened to at least its linearised interval (the points' range
+  // alone would under-cover it).
+  const QuantityProfile wide = profile_quantity(p.profile, best, t, {std::array<double, 2>{4000.0, 6000.0}, std::nullopt});
+  EXPECT_EQ(wide.intervals[0][0], 4000.0);
+  EXPECT_EQ(wide.intervals[0][1], 6000.0);
+  // On the Rayleigh-Jeans side T's upper side is open, and so is the quantity's.
+  const Profiled rj = profile_of(8000.0, 30.0, 300.0, 20, 0.03, 2);
+  const QuantityProfile open = profile_quantity(rj.profile, {rj.fit.parameters[0].internal, rj.fit.parameters[1].internal},
+                                                t, {std::nullopt, std::nullopt});
+  EXPECT_TRUE(open.upper_open);
+  EXPECT_TRUE(std::isnan(open.intervals[1][1]));
+  EXPECT_TRUE(std::isfinite(open.intervals[1][0]));
 }
 
 }  // namespace
