@@ -418,7 +418,8 @@ json intervals_json(const FitRequest& request, const ModelFitResult& fit, const 
       return {{"method", "profile"},
               {"description", "profile likelihood: where -2 ln p, minimised over the other parameters, rises by 1 and 4 "
                               "(Wilks 1938); a side that does not rise before the parameter's bound is open (null) and "
-                              "the other end is a one-sided limit at its one-sided level; derived quantities span their "
+                              "the interval is then a half-line (its lower end, read as a limit, holds at the one-sided "
+                              "level over repeated experiments: Feldman & Cousins 1998); derived quantities span their "
                               "values over the profile points (exact for a quantity of one parameter, an envelope "
                               "otherwise); error is the linearised one"},
               {"levels", levels},

@@ -157,6 +157,27 @@ ModelIntervals model_intervals(const ModelData& data, const ModelFitResult& fit,
     for (std::size_t k = 0; k < draws; ++k) values[k] = p.info.natural(chain.samples[k * chain.dimension + i]);
     set_percentiles(out.quantities.parameters[fit.free[i]], std::move(values), parameter_extra_log_variance(fit, p));
   }
+  // Where the likelihood does not confine a parameter, the draws follow the prior: into its bounds
+  // (the temperature of Rayleigh-Jeans data) or, flat in ln S, towards a vanishing scale (low S/N
+  // Wien data). The percentiles then describe the prior more than the data (the coverage study,
+  // bench/coverage_study.cpp, shows them failing there); say so.
+  for (std::size_t i = 0; i < fit.free.size(); ++i) {
+    std::vector<double> u(draws);
+    for (std::size_t k = 0; k < draws; ++k) u[k] = chain.samples[k * chain.dimension + i];
+    const double lo = quantile(u, kLowerQuantile[1]), hi = quantile(u, kUpperQuantile[1]);
+    const std::array<double, 2> bounds = posterior.bounds(i);
+    const bool logarithmic = fit.parameters[fit.free[i]].info.logarithmic;
+    const double near = logarithmic ? 1.0 : 1e-3 * (1.0 + std::abs(hi - lo));
+    const bool at_bound = hi > bounds[1] - near || lo < bounds[0] + near;
+    const bool unconfined = logarithmic && hi - lo > 2.0 * std::log(1e3);  // six decades at 95 %
+    if (at_bound || unconfined) {
+      out.warnings.push_back({"posterior_prior_dominated",
+                              fit.parameters[fit.free[i]].info.name + ": the posterior's 95 % range " +
+                                  (at_bound ? "reaches the parameter's bound" : "spans more than six decades") +
+                                  ": the data do not confine it and its percentiles follow the prior (flat in the "
+                                  "solver's space); prefer the profile method's intervals or limits here"});
+    }
+  }
   if (!chain.converged) {
     out.warnings.push_back({"posterior_not_converged",
                             "the chain is shorter than 50 autocorrelation times (or its acceptance fraction is outside "

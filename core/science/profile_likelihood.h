@@ -8,9 +8,11 @@
 // 68.27 % and 4 for 95.45 % (Wilks 1938; e.g. W. A. Rolke, A. M. Lopez & J. Conrad, NIM A 551, 493
 // (2005); Press et al., Numerical Recipes, 3rd ed., 15.6.5). Each side steps out from the best fit
 // (steps of one covariance sigma, doubling) until the profile has risen by 4 or the parameter's bound
-// is reached, then finds each crossing by TOMS 748 (Alefeld, Potra & Shi 1995; Boost.Math). A side
-// that reaches its bound before rising is open: the other end is then a one-sided limit, stated at
-// its one-sided level (Delta = 1: 84.13 %, Delta = 4: 97.72 %), and no closed interval is invented.
+// is reached, then finds each crossing (secant on sqrt(rise), TOMS 748 when it misses: Alefeld, Potra &
+// Shi 1995; Boost.Math). A side that reaches its bound before rising is open and no closed interval is
+// invented: the interval is the half-line, a confidence set at the same level, whose closed end read
+// as a limit holds at the one-sided level (Delta = 1: 84.13 %, Delta = 4: 97.72 %) over repeated
+// experiments, though not among the intervals that come out open (Feldman & Cousins 1998).
 //
 // Derived quantities get the range of their values over the profile points at each threshold (the
 // parameter vectors found at the crossings of every parameter, and the best fit): for a quantity that
