@@ -41,6 +41,7 @@ void profile_side(const ModelPosterior& posterior, const ModelFitResult& fit, st
   constexpr double kTolerance = 1e-3;  // on sqrt(rise): the crossing to ~1e-3 sigma
   const std::array<double, 2> limits = posterior.bounds(i);
   const double bound = direction < 0 ? limits[0] : limits[1];
+  // The profile's rise at t; x receives the minimiser (started from the conditional mean).
   const auto rise = [&](double t, std::vector<double>& x) {
     ++result.evaluations;
     x = conditional_start(fit, posterior, best, i, t);
@@ -66,7 +67,7 @@ void profile_side(const ModelPosterior& posterior, const ModelFitResult& fit, st
                                                : (step == 0.0 ? sigma : 2.0 * step);
       const double t = inside(best[i] + direction * std::max(step, distance + 1e-3 * sigma), at_bound);
       if (!std::isfinite(t) || path.size() > 60) break;
-      std::vector<double> x = last.x;
+      std::vector<double> x;
       const double delta = rise(t, x);
       path.push_back({t, delta, x});
       if (at_bound) break;
@@ -80,7 +81,7 @@ void profile_side(const ModelPosterior& posterior, const ModelFitResult& fit, st
       continue;
     }
     ProfilePoint a = *(crossing - 1), b = *crossing;
-    std::vector<double> x = a.x;
+    std::vector<double> x = b.x;  // the crossing's minimiser, unless a refinement replaces it
     const auto g = [&](double t) { return std::sqrt(rise(t, x)) - target; };
     double ga = std::sqrt(a.delta) - target, gb = std::sqrt(b.delta) - target;
     double t = b.t;

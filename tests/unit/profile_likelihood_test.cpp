@@ -43,6 +43,13 @@ TEST(ProfileLikelihood, EqualsTheCovarianceIntervalOnANearlyLinearProblem) {
     EXPECT_NEAR((*b.upper[0] - fp.internal) / sigma, 1.0, 0.02) << fp.info.name;
     EXPECT_NEAR((*b.upper[1] - fp.internal) / sigma, 2.0, 0.04) << fp.info.name;
     EXPECT_FALSE(b.lower_open || b.upper_open);
+    // The point kept for each crossing is the profile's minimiser there (the parameter at the
+    // crossing), which derived quantities are evaluated at.
+    for (std::size_t level = 0; level < 2; ++level) {
+      ASSERT_EQ(b.points[level].size(), 2u);
+      EXPECT_EQ(b.points[level][0][i], *b.lower[level]) << fp.info.name << " " << level;
+      EXPECT_EQ(b.points[level][1][i], *b.upper[level]) << fp.info.name << " " << level;
+    }
   }
   EXPECT_FALSE(p.profile.minimum_moved);
 }
