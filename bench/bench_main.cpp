@@ -87,28 +87,27 @@ void BM_PlanckEvaluation(benchmark::State& state) {
 }
 BENCHMARK(BM_PlanckEvaluation)->Arg(1000)->Unit(benchmark::kMicrosecond);
 
-// Intervals from the posterior (science/ensemble_sampler.h): the fit of BM_FitSpectrum's spectrum
-// as a 2-parameter model fit (preparation, start, solve, covariance), its ModelPosterior, and
-// 10,016 kept draws from the ensemble sampler: 32 walkers x (200 burn-in + 313 kept) steps, 16,448
-// evaluations of ln p over the 1,000 points. Target (issue): under 1 s per posterior on one core.
+// Intervals from the posterior (science/model_intervals.h): the fit of BM_FitSpectrum's spectrum as
+// a 2-parameter model fit (preparation, start, solve, covariance), then model_intervals as the
+// service runs it (Jeffreys' prior, whose Jacobian every evaluation computes; pivot coordinates)
+// with 10,000 kept draws: 16 walkers x (200 burn-in + 625 kept) steps, 13,216 evaluations of ln p
+// over the 1,000 points, and the percentiles of every parameter and derived quantity. Target
+// (issue): under 1 s per posterior on one core.
 void BM_PosteriorSamples(benchmark::State& state) {
   const SpectrumInput input = bench::synthetic_spectrum(static_cast<int>(state.range(0)));
   const ModelFitOptions fit_options;
-  EnsembleSamplerOptions options;
-  options.walkers = 32;
-  options.burn_in = 200;
-  options.steps = 200 + 313;
+  IntervalOptions intervals;  // the service's posterior: Jeffreys' prior, pivot coordinates
+  intervals.method = IntervalMethod::kPosterior;
+  intervals.sampler.walkers = 16;
+  intervals.sampler.burn_in = 200;
+  intervals.sampler.steps = 200 + 625;
   for (auto _ : state) {
     const MeasuredSpectrum spectrum = prepare_spectrum(input);
     const ModelData data = model_data(spectrum);
     const ModelFitResult fit = fit_model(data, ModelSpec{}, fit_options);
-    const ModelPosterior posterior(data, fit, fit_options);
-    std::vector<double> scale;
-    for (std::size_t p : fit.free) scale.push_back(fit.parameters[p].internal_sigma.value_or(0.1));
-    const EnsembleSamplerResult chain = sample_ensemble(
-        [&posterior](const double* u) { return posterior.log_probability(u); }, posterior.at_fit(), scale, options);
-    benchmark::DoNotOptimize(chain.samples.data());
-    if (chain.draws() < 10000) state.SkipWithError("fewer than 10,000 draws");
+    const ModelIntervals result = model_intervals(data, fit, fit_options, intervals, spectrum.y_unit, {}, {});
+    benchmark::DoNotOptimize(result.quantities.parameters.data());
+    if (!result.chain || result.chain->evaluations < 13216) state.SkipWithError("fewer evaluations than 10,000 draws need");
   }
 }
 BENCHMARK(BM_PosteriorSamples)->Arg(1000)->Unit(benchmark::kMillisecond);

@@ -50,9 +50,9 @@ int integer_at(const element& value, const std::string& pointer, int lo, int hi)
 }
 
 // The sampler's settings, bounded so that one request cannot ask for unbounded work: at most
-// 256 walkers x 20,000 steps, and a returned sample of at most 10,000 draws.
+// 256 walkers x 20,000 steps, and a returned sample of at most 10,000 draws; the base prior.
 void parse_posterior(const element& value, FitRequest& request) {
-  const Members m(value, "/options/posterior", {"walkers", "steps", "burn_in", "samples"});
+  const Members m(value, "/options/posterior", {"walkers", "steps", "burn_in", "samples", "prior"});
   EnsembleSamplerOptions& s = request.intervals.sampler;
   if (const auto e = m.find("walkers")) s.walkers = integer_at(*e, m.at("walkers"), 4, 256);
   if (const auto e = m.find("steps")) s.steps = integer_at(*e, m.at("steps"), 10, 20000);
@@ -60,6 +60,11 @@ void parse_posterior(const element& value, FitRequest& request) {
     s.burn_in = integer_at(*e, m.at("burn_in"), 0, 19999);
   } else if (m.find("steps")) {
     s.burn_in = std::min(s.burn_in, s.steps / 4);  // the default burn-in, or a quarter of fewer steps
+  }
+  if (const auto e = m.find("prior")) {
+    const std::string prior = string_at(*e, m.at("prior"));
+    if (prior != "jeffreys" && prior != "flat") fail(m.at("prior"), "must be jeffreys or flat");
+    request.intervals.prior = prior == "jeffreys" ? PosteriorPrior::kJeffreys : PosteriorPrior::kFlat;
   }
   if (const auto e = m.find("samples")) request.intervals.samples_returned = static_cast<std::size_t>(integer_at(*e, m.at("samples"), 0, 10000));
   if (s.walkers % 2 != 0) fail(m.at("walkers"), "must be even (the ensemble moves in two halves)");

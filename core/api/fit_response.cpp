@@ -440,8 +440,13 @@ json intervals_json(const FitRequest& request, const ModelFitResult& fit, const 
                       "half-ensembles): median and the 15.87/84.13 and 2.275/97.725 percentiles over the draws; value "
                       "stays the best fit, error the linearised one"},
       {"levels", levels},
-      {"prior", "flat in the solver's space (ln T, ln scale, ln turnover_frequency; beta and color_excess as they are) "
-                "inside the bounds, times the model's Gaussian priors"},
+      {"prior", request.intervals.prior == PosteriorPrior::kJeffreys ? "jeffreys" : "flat"},
+      {"prior_description",
+       request.intervals.prior == PosteriorPrior::kJeffreys
+           ? "Jeffreys' prior (Jeffreys 1946), sqrt(det J^T J) of the residuals' Jacobian in the free parameters, inside "
+             "the bounds, times the model's Gaussian priors"
+           : "flat in the solver's space (ln T, ln scale, ln turnover_frequency; beta and color_excess as they are) "
+             "inside the bounds, times the model's Gaussian priors"},
       {"seed", sampler.seed},
       {"walkers", sampler.walkers},
       {"steps", sampler.steps},

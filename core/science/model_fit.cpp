@@ -1042,6 +1042,31 @@ double ModelPosterior::log_probability(const double* x) const {
 
 double ModelPosterior::chi_square(const double* x) const { return impl_->cost(x, true); }
 
+double ModelPosterior::log_probability_jeffreys(const double* x) const {
+  const Impl& m = *impl_;
+  m.with_derivatives = true;
+  const double lp = log_probability(x);
+  m.with_derivatives = false;
+  if (!std::isfinite(lp)) return lp;
+  // The Fisher information of the Gaussian residuals, J^T J with J_ja = dr_j/du_a, from the
+  // derivatives the evaluation above left in the model's cache.
+  const std::size_t dim = m.fit.free.size(), n = m.sigma.size();
+  Eigen::MatrixXd information = Eigen::MatrixXd::Zero(static_cast<Eigen::Index>(dim), static_cast<Eigen::Index>(dim));
+  std::vector<double> row(dim);
+  for (std::size_t j = 0; j < n; ++j) {
+    const double d_model = m.model.residual(j, m.model.flux(j), m.sigma).d_model;
+    for (std::size_t a = 0; a < dim; ++a) row[a] = d_model * m.model.flux_derivative(j, m.fit.free[a]);
+    for (std::size_t a = 0; a < dim; ++a) {
+      for (std::size_t b = 0; b <= a; ++b) information(static_cast<Eigen::Index>(a), static_cast<Eigen::Index>(b)) += row[a] * row[b];
+    }
+  }
+  const Eigen::LLT<Eigen::MatrixXd> llt(information.selfadjointView<Eigen::Lower>());
+  if (llt.info() != Eigen::Success) return -HUGE_VAL;
+  // ln sqrt(det I) = sum ln diag(L)
+  const double log_root_det = llt.matrixL().toDenseMatrix().diagonal().array().log().sum();
+  return std::isfinite(log_root_det) ? lp + log_root_det : -HUGE_VAL;
+}
+
 namespace {
 
 // rho'(s) of the loss: the IRLS weight of a squared residual s (Ceres' loss_function.h).

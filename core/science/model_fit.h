@@ -161,7 +161,8 @@ ModelFitResult fit_model(const ModelData& data, const ModelSpec& spec, const Mod
 // and -inf outside them; rho is the fit's loss (identity for least squares), r_j the residuals with
 // the sigmas the fit used, scaled by the fitted scatter when the errors were estimated (so that the
 // intervals follow the residual scatter). Otherwise flat in u: flat in ln T (ln S, ln nu_t), flat in
-// beta and E(B-V). Not thread-safe (scratch space); one per request.
+// beta and E(B-V); log_probability_jeffreys has Jeffreys' prior instead. Not thread-safe (scratch
+// space); one per request.
 class ModelPosterior {
  public:
   ModelPosterior(const ModelData& data, const ModelFitResult& fit, const ModelFitOptions& options);
@@ -174,6 +175,12 @@ class ModelPosterior {
   std::array<double, 2> bounds(std::size_t i) const;  // internal bounds of free parameter i (may be infinite)
   double log_probability(const double* free_internal) const;
   double chi_square(const double* free_internal) const;  // of the data alone (sum of r^2)
+  // ln p with Jeffreys' prior (Jeffreys 1946, Proc. R. Soc. A 186, 453) in place of the flat one:
+  // + ln sqrt(det I(u)), I = J^T J the Fisher information of the residuals in the free parameters.
+  // Invariant under reparametrisation; it vanishes where the data stop telling the parameters apart
+  // (the temperature of Rayleigh-Jeans data, T -> inf, as 1/T) or stop seeing the source (S -> 0),
+  // so the posterior stays proper where the flat one runs to the bounds.
+  double log_probability_jeffreys(const double* free_internal) const;
   std::vector<double> all_internal(const double* free_internal) const;  // with the fixed ones
 
   // -2 ln p minimised over the free parameters other than `fixed` (an index into them), which is

@@ -5,6 +5,7 @@
 #include <limits>
 
 #include "science/input_error.h"
+#include "science/model_kernel.h"
 #include "science/profile_likelihood.h"
 
 namespace planckton {
@@ -82,6 +83,74 @@ std::vector<double> draw(const EnsembleSamplerResult& chain, std::size_t k) {
           chain.samples.begin() + static_cast<std::ptrdiff_t>((k + 1) * chain.dimension)};
 }
 
+// The items' mean ln nu weighted by their (S/N)^2 (a band's ln nu: its nodes' weighted mean).
+double pivot_frequency(const ModelData& data) {
+  double sum = 0.0, weights = 0.0;
+  for (const ModelData::Item& item : data.items) {
+    if (item.space == ModelData::Space::kUpperLimit || !(item.sigma > 0.0)) continue;
+    const double signal_to_noise = item.space == ModelData::Space::kMagnitude ? 1.0 / item.sigma : item.observed / item.sigma;
+    double ln_nu = 0.0, node_weights = 0.0;
+    for (std::size_t n = item.first_node; n < item.first_node + item.node_count; ++n) {
+      ln_nu += data.nodes[n].weight * std::log(data.nodes[n].frequency_hz);
+      node_weights += data.nodes[n].weight;
+    }
+    if (!(node_weights > 0.0) || !std::isfinite(signal_to_noise)) continue;
+    sum += signal_to_noise * signal_to_noise * ln_nu / node_weights;
+    weights += signal_to_noise * signal_to_noise;
+  }
+  return weights > 0.0 ? std::exp(sum / weights) : std::sqrt(data.min_node_frequency_hz * data.max_node_frequency_hz);
+}
+
+// The sampler's coordinates. Each free scale S_c (u = ln S_c) is replaced by the logarithm of its
+// component's model at a pivot frequency, y_c = ln S_c + ln g_c(nu_p; theta), with g_c the component
+// at S_c = 1 and theta the other parameters: the normalisation at the pivot, the common practice of
+// quoting a power law's amplitude at its decorrelation energy. The data fix y_c nearly independently
+// of the temperature, where ln S and ln T trace a curved valley (S ~ e^(h nu / k T) on the Wien
+// side, S ~ 1/T on the Rayleigh-Jeans side) that an affine-invariant sampler crosses only slowly.
+// The map is a shear (ln S_c = y_c - f(theta)), so its Jacobian is 1 and the posterior's density
+// is the same in both coordinates.
+class PivotCoordinates {
+ public:
+  PivotCoordinates(const ModelData& data, const ModelFitResult& fit, const ModelPosterior& posterior)
+      : fit_(fit), posterior_(posterior), infos_(model_parameters(fit.spec)),
+        pivot_(fit.spec, infos_, model_kernel::node_terms(fit.spec, data.convention, {pivot_frequency(data)}, true)) {
+    for (std::size_t i = 0; i < fit.free.size(); ++i) {
+      const ParameterInfo& info = fit.parameters[fit.free[i]].info;
+      if (info.role == ParameterRole::kScale) scales_.push_back({i, info.component});
+    }
+  }
+
+  void to_sampler(std::vector<double>& x) const { shift(x, +1.0); }
+  void from_sampler(double* y) const {
+    std::vector<double> x(y, y + fit_.free.size());
+    shift(x, -1.0);
+    std::copy(x.begin(), x.end(), y);
+  }
+
+ private:
+  // y_c = x_c + sign * ln g_c(theta); theta is the same in both coordinates.
+  void shift(std::vector<double>& x, double sign) const {
+    if (scales_.empty()) return;
+    std::vector<double> all = posterior_.all_internal(x.data());
+    for (const Scale& s : scales_) all[fit_.free[s.index]] = 0.0;
+    for (const Scale& s : scales_) {
+      pivot_.evaluate(all.data(), 0, 1, false, s.component);
+      const double g = pivot_.value()[0];
+      x[s.index] = g > 0.0 && std::isfinite(g) ? x[s.index] + sign * std::log(g) : kNaN;
+    }
+  }
+
+  struct Scale {
+    std::size_t index;  // into the free parameters
+    int component;
+  };
+  const ModelFitResult& fit_;
+  const ModelPosterior& posterior_;
+  std::vector<ParameterInfo> infos_;
+  std::vector<Scale> scales_;
+  model_kernel::NodeModel pivot_;
+};
+
 void set_percentiles(Estimate& e, std::vector<double> values, double extra_log_variance) {
   values.erase(std::remove_if(values.begin(), values.end(), [](double v) { return !std::isfinite(v); }), values.end());
   if (values.empty()) return;
@@ -141,8 +210,19 @@ ModelIntervals model_intervals(const ModelData& data, const ModelFitResult& fit,
   // The posterior: walkers start in a small ball around the fit, scaled by the covariance's sigmas.
   std::vector<double> scale;
   for (std::size_t p : fit.free) scale.push_back(fit.parameters[p].internal_sigma.value_or(0.1));
+  const bool jeffreys = intervals.prior == PosteriorPrior::kJeffreys;
+  const PivotCoordinates coordinates(data, fit, posterior);
+  std::vector<double> start = best;
+  coordinates.to_sampler(start);
+  std::vector<double> x(best.size());
   EnsembleSamplerResult chain = sample_ensemble(
-      [&posterior](const double* x) { return posterior.log_probability(x); }, best, scale, intervals.sampler);
+      [&](const double* y) {
+        std::copy(y, y + x.size(), x.begin());
+        coordinates.from_sampler(x.data());
+        return jeffreys ? posterior.log_probability_jeffreys(x.data()) : posterior.log_probability(x.data());
+      },
+      start, scale, intervals.sampler);
+  for (std::size_t k = 0; k < chain.draws(); ++k) coordinates.from_sampler(&chain.samples[k * chain.dimension]);
   const std::size_t draws = chain.draws();
   const std::size_t stride = std::max<std::size_t>(1, draws / kDerivedDraws);
   const IntervalRule rule = [&](const Quantity& q, double extra, Estimate& e) {
@@ -157,10 +237,11 @@ ModelIntervals model_intervals(const ModelData& data, const ModelFitResult& fit,
     for (std::size_t k = 0; k < draws; ++k) values[k] = p.info.natural(chain.samples[k * chain.dimension + i]);
     set_percentiles(out.quantities.parameters[fit.free[i]], std::move(values), parameter_extra_log_variance(fit, p));
   }
-  // Where the likelihood does not confine a parameter, the draws follow the prior: into its bounds
-  // (the temperature of Rayleigh-Jeans data) or, flat in ln S, towards a vanishing scale (low S/N
-  // Wien data). The percentiles then describe the prior more than the data (the coverage study,
-  // bench/coverage_study.cpp, shows them failing there); say so.
+  // Where the likelihood does not confine a parameter, the draws follow the prior: with the flat
+  // one into its bounds (the temperature of Rayleigh-Jeans data) or towards a vanishing scale (low
+  // S/N Wien data), where the coverage study (bench/coverage_study.cpp) shows its percentiles
+  // failing; Jeffreys' prior falls off there, but a parameter the data do not confine at all still
+  // spreads over decades. The percentiles then describe the prior more than the data; say so.
   for (std::size_t i = 0; i < fit.free.size(); ++i) {
     std::vector<double> u(draws);
     for (std::size_t k = 0; k < draws; ++k) u[k] = chain.samples[k * chain.dimension + i];
@@ -174,8 +255,9 @@ ModelIntervals model_intervals(const ModelData& data, const ModelFitResult& fit,
       out.warnings.push_back({"posterior_prior_dominated",
                               fit.parameters[fit.free[i]].info.name + ": the posterior's 95 % range " +
                                   (at_bound ? "reaches the parameter's bound" : "spans more than six decades") +
-                                  ": the data do not confine it and its percentiles follow the prior (flat in the "
-                                  "solver's space); prefer the profile method's intervals or limits here"});
+                                  ": the data do not confine it and its percentiles follow the prior (" +
+                                  (jeffreys ? "Jeffreys'" : "flat in the solver's space") +
+                                  "); prefer the profile method's intervals or limits here"});
     }
   }
   if (!chain.converged) {

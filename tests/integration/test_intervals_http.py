@@ -43,7 +43,7 @@ NDJSON_CT = {"Content-Type": "application/x-ndjson"}
 # CODATA 2018 exact SI values (h, c, k).
 H, C, K = 6.62607015e-34, 299792458.0, 1.380649e-23
 TRUE_T = 8000.0
-SHORT = {"steps": 600}  # a short chain: 32 walkers x 600 steps, 150 of them burn-in (14,400 draws)
+SHORT = {"steps": 600}  # a short chain: 16 walkers x 600 steps, 150 of them burn-in (7,200 draws)
 
 
 def phi(z):
@@ -179,7 +179,7 @@ def profile_members(label, doc):
     checks.check(f"{label}: each free parameter's profile intervals contain the best fit", not bad, repr(bad))
 
 
-def posterior_members(label, doc, walkers=32, steps=600, burn_in=150, seed=None):
+def posterior_members(label, doc, walkers=16, steps=600, burn_in=150, seed=None, prior="jeffreys"):
     method_members(label, doc, "posterior")
     iv = doc.get("intervals", {})
     names = free(doc)
@@ -190,6 +190,9 @@ def posterior_members(label, doc, walkers=32, steps=600, burn_in=150, seed=None)
                  and iv.get("draws") == walkers * (steps - burn_in), repr(dict(settings, draws=iv.get("draws"))))
     if seed is not None:
         checks.check(f"{label}: intervals.seed is {seed}", iv.get("seed") == seed, repr(iv.get("seed")))
+    checks.check(f"{label}: the prior is stated (Jeffreys' unless asked)",
+                 iv.get("prior") == prior and ("Jeffreys" in iv.get("prior_description", "")) == (prior == "jeffreys"),
+                 repr((iv.get("prior"), iv.get("prior_description"))))
     acceptance = iv.get("acceptance_fraction")
     checks.check(f"{label}: acceptance fraction in (0.1, 0.9)", isinstance(acceptance, float) and 0.1 < acceptance < 0.9,
                  repr(acceptance))
@@ -231,6 +234,10 @@ def spectrum_sample(server):
         profile_members("tms-0112 profile", profile)
     if posterior is not None:
         posterior_members("tms-0112 posterior", posterior, seed=11)
+    flat = fitted("tms-0112 with intervals posterior, prior flat",
+                  post_json(server, with_options(star, intervals="posterior", seed=11, posterior=dict(SHORT, prior="flat"))))
+    if flat is not None:
+        posterior_members("tms-0112 posterior (flat)", flat, seed=11, prior="flat")
     if covariance is None:
         return
     t = covariance["parameters"]["temperature"]
@@ -384,12 +391,12 @@ def returned_samples(server):
 
 
 def posterior_defaults(server):
-    """The default chain (32 walkers x 2000 steps, 300 of them burn-in, seed 1) on six bands."""
+    """The default chain (16 walkers x 4000 steps, 500 of them burn-in, seed 1) on six bands."""
     clump = load("bfc-7-dust-clump.json")
     doc = fitted("bfc-7 with intervals posterior and no options.posterior (the defaults)",
                  post_json(server, with_options(clump, intervals="posterior")))
     if doc is not None:
-        posterior_members("bfc-7 default posterior", doc, walkers=32, steps=2000, burn_in=300, seed=1)
+        posterior_members("bfc-7 default posterior", doc, walkers=16, steps=4000, burn_in=500, seed=1)
     doc = fitted("bfc-7 with posterior.steps 400 only (burn_in a quarter of it)",
                  post_json(server, with_options(clump, intervals="posterior", posterior={"steps": 400, "walkers": 16})))
     if doc is not None:
@@ -424,8 +431,8 @@ def tables(server, rj):
         same = json_of(post_json(server, with_options(rj, intervals="posterior", seed=9)))
         diff = harness.strict_diff(doc, same)
         checks.check("?intervals=posterior&seed=9 gives the JSON request's document (options.seed 9)", diff is None, diff or "")
-        checks.check("?seed=9: intervals.seed 9, the default chain (32 x 2000, burn-in 300)",
-                     [doc["intervals"].get(k) for k in ("seed", "walkers", "steps", "burn_in")] == [9, 32, 2000, 300],
+        checks.check("?seed=9: intervals.seed 9, the default chain (16 x 4000, burn-in 500)",
+                     [doc["intervals"].get(k) for k in ("seed", "walkers", "steps", "burn_in")] == [9, 16, 4000, 500],
                      repr({k: doc["intervals"].get(k) for k in ("seed", "walkers", "steps", "burn_in")}))
         with tempfile.NamedTemporaryFile("wb", suffix=".csv", delete=False) as f:
             f.write(body)
@@ -506,6 +513,8 @@ def bad_options(server):
          False, True),
         ("an unknown member of options.posterior", post(intervals="posterior", posterior={"thin": 2}),
          "/options/posterior/thin", False, True),
+        ("an unknown prior", post(intervals="posterior", posterior={"prior": "uniform"}),
+         "/options/posterior/prior", False, True),
     ]
     for name, document, pointer, accepted, refusable in cases:
         check_problem(checks, name, post_json(server, document), status=422, pointer=pointer, accepted=accepted, schema=schema)
