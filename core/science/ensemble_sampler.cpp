@@ -1,6 +1,7 @@
 #include "science/ensemble_sampler.h"
 
 #include <algorithm>
+#include <chrono>
 #include <cmath>
 #include <numbers>
 #include <random>
@@ -155,6 +156,10 @@ EnsembleSamplerResult sample_ensemble(const std::function<double(const double*)>
   std::vector<double> proposal(d);
   std::size_t accepted = 0;
   const double exponent = static_cast<double>(d) - 1.0;
+  const auto started = std::chrono::steady_clock::now();
+  const auto out_of_time = [&] {
+    return std::chrono::duration<double>(std::chrono::steady_clock::now() - started).count() > options.time_budget_seconds;
+  };
   for (std::size_t step = 0; step < steps; ++step) {
     const bool counted = step >= burn_in;
     for (std::size_t moving = 0; moving < 2; ++moving) {
@@ -182,18 +187,25 @@ EnsembleSamplerResult sample_ensemble(const std::function<double(const double*)>
       result.samples.insert(result.samples.end(), position.begin(), position.end());
       result.log_probability.insert(result.log_probability.end(), log_p.begin(), log_p.end());
     }
+    result.steps_taken = step + 1;
+    if (step + 1 < steps && out_of_time()) {
+      result.out_of_time = true;
+      break;
+    }
   }
-  result.acceptance_fraction = static_cast<double>(accepted) / static_cast<double>(walkers * (steps - burn_in));
+  const std::size_t kept = result.samples.size() / (walkers * d);
+  result.kept_draws = kept * walkers;
+  const std::size_t counted_steps = result.steps_taken > burn_in ? result.steps_taken - burn_in : 0;
+  if (counted_steps > 0) result.acceptance_fraction = static_cast<double>(accepted) / static_cast<double>(walkers * counted_steps);
 
   // 4, 5. Autocorrelation times (in steps) and convergence.
   double max_tau = 0.0;
-  for (std::size_t j = 0; j < d; ++j) {
-    const double tau = static_cast<double>(thin) *
-                       integrated_autocorrelation_time(result.samples.data() + j, kept_steps, walkers, d);
+  for (std::size_t j = 0; j < d && kept > 1; ++j) {
+    const double tau = static_cast<double>(thin) * integrated_autocorrelation_time(result.samples.data() + j, kept, walkers, d);
     result.autocorrelation_time.push_back(tau);
     max_tau = std::max(max_tau, tau);
   }
-  result.converged = static_cast<double>(kept_steps * thin) > kConvergenceTolerance * max_tau &&
+  result.converged = !result.out_of_time && kept > 1 && static_cast<double>(kept * thin) > kConvergenceTolerance * max_tau &&
                      result.acceptance_fraction > kMinAcceptance && result.acceptance_fraction < kMaxAcceptance;
   return result;
 }

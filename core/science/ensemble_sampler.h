@@ -49,6 +49,7 @@
 // Out: the kept draws, their ln p, acceptance, autocorrelation times and the convergence flag.
 #pragma once
 
+#include <cmath>
 #include <cstddef>
 #include <cstdint>
 #include <functional>
@@ -64,6 +65,9 @@ struct EnsembleSamplerOptions {
   double stretch = 2.0;          // a of the stretch move, > 1
   std::uint64_t seed = 1;
   double initial_spread = 1e-3;  // walkers start in a Gaussian ball: start + spread * scale * N(0, 1)
+  // Wall-clock seconds for the moves (checked after every step): when they run out the chain stops
+  // where it is, keeps what it has kept and is not converged.
+  double time_budget_seconds = HUGE_VAL;
 };
 
 struct EnsembleSamplerResult {
@@ -75,6 +79,9 @@ struct EnsembleSamplerResult {
   std::vector<double> autocorrelation_time;  // per dimension, in steps (integrated; see above)
   bool converged = false;               // kept steps > 50 * max autocorrelation time, acceptance in (0.1, 0.9)
   std::size_t evaluations = 0;          // calls of log_probability, the start included
+  std::size_t steps_taken = 0;          // per walker, the burn-in included: options.steps unless out of time
+  bool out_of_time = false;             // the time budget ended the chain early (then not converged)
+  std::size_t kept_draws = 0;           // walkers x kept steps (draws() until the samples are dropped)
 
   std::size_t draws() const { return dimension > 0 ? samples.size() / dimension : 0; }
 };

@@ -211,6 +211,8 @@ ModelIntervals model_intervals(const ModelData& data, const ModelFitResult& fit,
   std::vector<double> scale;
   for (std::size_t p : fit.free) scale.push_back(fit.parameters[p].internal_sigma.value_or(0.1));
   const bool jeffreys = intervals.prior == PosteriorPrior::kJeffreys;
+  EnsembleSamplerOptions sampler = intervals.sampler;  // the fit's time budget bounds the chain too
+  sampler.time_budget_seconds = std::min(sampler.time_budget_seconds, options.solver.time_budget_seconds);
   const PivotCoordinates coordinates(data, fit, posterior);
   std::vector<double> start = best;
   coordinates.to_sampler(start);
@@ -221,7 +223,27 @@ ModelIntervals model_intervals(const ModelData& data, const ModelFitResult& fit,
         coordinates.from_sampler(x.data());
         return jeffreys ? posterior.log_probability_jeffreys(x.data()) : posterior.log_probability(x.data());
       },
-      start, scale, intervals.sampler);
+      start, scale, sampler);
+  if (chain.out_of_time) {
+    out.warnings.push_back({"posterior_out_of_time",
+                            "the time budget (options.time_budget_seconds) ended the chain after " +
+                                std::to_string(chain.steps_taken) + " of " + std::to_string(sampler.steps) + " steps" +
+                                (chain.kept_draws == 0 ? ", within the burn-in: the intervals are the covariance's"
+                                                       : ": the percentiles are from the draws kept so far")});
+  }
+  if (!chain.converged) {
+    out.warnings.push_back({"posterior_not_converged",
+                            "the chain is shorter than 50 autocorrelation times (or its acceptance fraction is outside "
+                            "0.1-0.9): the percentiles are rough; ask for more options.posterior.steps" +
+                                std::string(chain.out_of_time ? " and a larger options.time_budget_seconds" : "")});
+  }
+  if (chain.kept_draws == 0) {
+    out.quantities = derive_model_quantities(fit, y_unit, distance, dust_opacity);
+    chain.samples.clear();
+    chain.log_probability.clear();
+    out.chain = std::move(chain);
+    return out;
+  }
   for (std::size_t k = 0; k < chain.draws(); ++k) coordinates.from_sampler(&chain.samples[k * chain.dimension]);
   const std::size_t draws = chain.draws();
   const std::size_t stride = std::max<std::size_t>(1, draws / kDerivedDraws);
@@ -259,11 +281,6 @@ ModelIntervals model_intervals(const ModelData& data, const ModelFitResult& fit,
                                   (jeffreys ? "Jeffreys'" : "flat in the solver's space") +
                                   "); prefer the profile method's intervals or limits here"});
     }
-  }
-  if (!chain.converged) {
-    out.warnings.push_back({"posterior_not_converged",
-                            "the chain is shorter than 50 autocorrelation times (or its acceptance fraction is outside "
-                            "0.1-0.9): the percentiles are rough; ask for more options.posterior.steps"});
   }
   if (intervals.samples_returned > 0) {
     const std::size_t every = std::max<std::size_t>(1, (draws + intervals.samples_returned - 1) / intervals.samples_returned);

@@ -129,6 +129,30 @@ TEST(EnsembleSampler, SameSeedGivesIdenticalSamplesDifferentSeedsCompatibleMeans
   }
 }
 
+TEST(EnsembleSampler, ATimeBudgetEndsTheChainEarlyAndItIsNotConverged) {
+  // A budget of 0 s is spent after the first step, whatever the machine's speed.
+  EnsembleSamplerOptions options = gaussian_options(3);
+  options.time_budget_seconds = 0.0;
+  const EnsembleSamplerResult in_burn_in = sample_ensemble(gaussian_log_p, {1.0, -2.0}, {1.0, 0.5}, options);
+  EXPECT_TRUE(in_burn_in.out_of_time);
+  EXPECT_EQ(in_burn_in.steps_taken, 1u);
+  EXPECT_EQ(in_burn_in.kept_draws, 0u);
+  EXPECT_TRUE(in_burn_in.samples.empty());
+  EXPECT_FALSE(in_burn_in.converged);
+
+  options.burn_in = 0;
+  const EnsembleSamplerResult kept_one = sample_ensemble(gaussian_log_p, {1.0, -2.0}, {1.0, 0.5}, options);
+  EXPECT_EQ(kept_one.steps_taken, 1u);
+  EXPECT_EQ(kept_one.kept_draws, 32u);
+  EXPECT_EQ(kept_one.draws(), 32u);
+  EXPECT_FALSE(kept_one.converged);
+
+  const EnsembleSamplerResult unlimited = sample_gaussian(3);  // the default budget: no limit
+  EXPECT_FALSE(unlimited.out_of_time);
+  EXPECT_EQ(unlimited.steps_taken, 2200u);
+  EXPECT_EQ(unlimited.kept_draws, unlimited.draws());
+}
+
 TEST(EnsembleSampler, NeverSamplesWhereTheLogProbabilityIsMinusInfinity) {
   // The Gaussian truncated to x_0 >= 0.5 and to x_1 <= -1.9 (NaN there: counts as -inf), started on
   // the first edge, so that about half the initial ball is redrawn.

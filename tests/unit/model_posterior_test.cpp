@@ -4,7 +4,9 @@
 #include <gtest/gtest.h>
 
 #include <Eigen/Dense>
+#include <algorithm>
 #include <cmath>
+#include <string>
 
 #include "science/ensemble_sampler.h"
 #include "science/model_fit.h"
@@ -107,6 +109,28 @@ TEST(JeffreysPrior, KeepsTheRayleighJeansPosteriorOffTheTemperatureBound) {
   EXPECT_FALSE(warned(jeffreys));
   EXPECT_TRUE(warned(flat));
   EXPECT_TRUE(jeffreys.chain->converged);
+}
+
+TEST(PosteriorIntervals, TheFitsTimeBudgetBoundsTheChain) {
+  // A budget spent within the burn-in: covariance intervals, the chain not converged, both warnings.
+  const Fitted f = fitted(5200.0, 0.3, 2.5, 40, 0.02, 11);
+  IntervalOptions options;
+  options.method = IntervalMethod::kPosterior;
+  ModelFitOptions no_time;
+  no_time.solver.time_budget_seconds = 0.0;
+  const ModelIntervals m = model_intervals(f.data, f.fit, no_time, options, f.spectrum.y_unit, {}, {});
+  ASSERT_TRUE(m.chain);
+  EXPECT_TRUE(m.chain->out_of_time);
+  EXPECT_EQ(m.chain->kept_draws, 0u);
+  EXPECT_LT(m.chain->steps_taken, static_cast<std::size_t>(options.sampler.steps));
+  EXPECT_FALSE(m.chain->converged);
+  std::vector<std::string> codes;
+  for (const FitWarning& w : m.warnings) codes.push_back(w.code);
+  EXPECT_NE(std::find(codes.begin(), codes.end(), "posterior_out_of_time"), codes.end());
+  EXPECT_NE(std::find(codes.begin(), codes.end(), "posterior_not_converged"), codes.end());
+  const Estimate& t = m.quantities.parameters[0];
+  ASSERT_TRUE(t.interval_68);
+  EXPECT_FALSE(t.median);  // no draws: the covariance's interval, no posterior median
 }
 
 TEST(PivotCoordinates, SamplingThroughThemGivesTheSamePosterior) {
