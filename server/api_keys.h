@@ -7,6 +7,10 @@
 
 namespace planckton::server {
 
+// True when `given` equals `key`. The time taken depends only on key.size(): not on the given value,
+// its length, or how many leading bytes match (so timing reveals neither the key nor its length).
+bool keys_equal(std::string_view given, std::string_view key);
+
 class ApiKeys {
  public:
   explicit ApiKeys(std::vector<std::string> keys) : keys_(std::move(keys)) {}

@@ -1,12 +1,16 @@
 #include "connection_queue.h"
 
+#include <atomic>
+
 namespace planckton::server {
 
 namespace {
 thread_local bool overflow_thread = false;
+std::atomic<std::size_t> waiting_connections{0};  // the workers' queue, over every ConnectionQueue
 }  // namespace
 
 bool on_overflow_thread() { return overflow_thread; }
+bool connections_waiting() { return waiting_connections.load(std::memory_order_relaxed) > 0; }
 
 ConnectionQueue::ConnectionQueue(std::size_t workers, std::size_t max_waiting, std::size_t overflow_workers)
     : max_waiting_(max_waiting) {
@@ -17,12 +21,14 @@ ConnectionQueue::ConnectionQueue(std::size_t workers, std::size_t max_waiting, s
 ConnectionQueue::~ConnectionQueue() { shutdown(); }
 
 void ConnectionQueue::enqueue(std::function<void()> job) {
+  Pool* pool = nullptr;
   {
     const std::lock_guard lock(mutex_);
-    Pool& pool = workers_.jobs.size() < max_waiting_ ? workers_ : overflow_;
-    pool.jobs.push_back(std::move(job));
+    pool = workers_.jobs.size() < max_waiting_ ? &workers_ : &overflow_;
+    pool->jobs.push_back(std::move(job));
+    if (pool == &workers_) ++waiting_connections;
   }
-  wake_.notify_all();
+  pool->wake.notify_one();
 }
 
 void ConnectionQueue::shutdown() {
@@ -31,7 +37,8 @@ void ConnectionQueue::shutdown() {
     if (shutting_down_) return;
     shutting_down_ = true;
   }
-  wake_.notify_all();
+  workers_.wake.notify_all();
+  overflow_.wake.notify_all();
   for (Pool* pool : {&workers_, &overflow_}) {
     for (std::thread& thread : pool->threads) {
       if (thread.joinable()) thread.join();
@@ -46,10 +53,11 @@ void ConnectionQueue::run(Pool& pool, bool overflow) {
     std::function<void()> job;
     {
       std::unique_lock lock(mutex_);
-      wake_.wait(lock, [&] { return shutting_down_ || !pool.jobs.empty(); });
+      pool.wake.wait(lock, [&] { return shutting_down_ || !pool.jobs.empty(); });
       if (pool.jobs.empty()) return;
       job = std::move(pool.jobs.front());
       pool.jobs.pop_front();
+      if (!overflow) --waiting_connections;
     }
     job();
   }

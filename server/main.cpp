@@ -5,6 +5,7 @@
 #include <httplib.h>
 #include <malloc.h>
 #include <pthread.h>
+#include <sys/socket.h>
 
 #include <chrono>
 #include <csignal>
@@ -21,6 +22,8 @@
 namespace {
 
 void log_line(const nlohmann::ordered_json& line) { std::cerr << line.dump() << std::endl; }
+
+constexpr int kListenBacklog = 1024;  // the kernel caps it at net.core.somaxconn (4096 on Linux 5.4+)
 
 bool is_loopback(const std::string& address) {
   return address == "localhost" || address == "::1" || address.rfind("127.", 0) == 0;
@@ -48,6 +51,15 @@ int main(int argc, char** argv) {
   server.new_task_queue = [&config] {
     return new ConnectionQueue(static_cast<std::size_t>(config.threads), config.max_waiting_connections);
   };
+  // The listening socket: SO_REUSEADDR (a restart may bind over connections in TIME_WAIT), but not
+  // httplib's default SO_REUSEPORT, with which a second process of the same user could bind the same
+  // port and silently take a share of the connections. Its descriptor is kept to widen the backlog.
+  int listener = -1;
+  server.set_socket_options([&listener](int socket) {
+    const int yes = 1;
+    setsockopt(socket, SOL_SOCKET, SO_REUSEADDR, &yes, sizeof yes);
+    listener = socket;
+  });
   server.set_tcp_nodelay(true);  // without it, Nagle holds each response's body behind its headers (~40 ms)
   server.set_payload_max_length(config.max_body_bytes);
   server.set_keep_alive_max_count(config.keep_alive_max);
@@ -69,6 +81,12 @@ int main(int argc, char** argv) {
   if (port < 0) {
     log_line({{"event", "error"}, {"detail", "cannot listen on " + config.bind + ":" + std::to_string(config.port)}});
     return 1;
+  }
+  // httplib listens with a backlog of 5: under a burst of connections (clients turned away with 503
+  // reconnecting at once) the kernel dropped SYNs and clients waited for their 1 s retransmission
+  // before even reaching the overflow answerer. listen(2) again on the bound socket only resizes it.
+  if (listener >= 0 && ::listen(listener, kListenBacklog) != 0) {
+    log_line({{"event", "warning"}, {"detail", "could not widen the listen backlog"}});
   }
   if (!is_loopback(config.bind) && !keys.enabled()) {
     log_line({{"event", "warning"},

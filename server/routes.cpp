@@ -1,7 +1,9 @@
 #include "routes.h"
 
 #include <algorithm>
+#include <charconv>
 #include <chrono>
+#include <cstdint>
 #include <cstdio>
 #include <ctime>
 #include <iostream>
@@ -69,6 +71,24 @@ std::string media_type(const httplib::Request& request) {
   type.erase(std::remove_if(type.begin(), type.end(), [](unsigned char c) { return std::isspace(c); }), type.end());
   std::transform(type.begin(), type.end(), type.begin(), [](unsigned char c) { return std::tolower(c); });
   return type;
+}
+
+// httplib decodes gzip, deflate and br request bodies itself, after the Content-Length check: a few
+// hundred KB of gzip would become gigabytes past --max-body-bytes (measured: 476 KB became 500 MB,
+// 1 GB of peak memory). So a body with a content coding other than identity is refused (415, RFC 9110
+// section 15.5.16) before a byte of it is read.
+std::optional<Problem> content_coding_problem(const httplib::Request& request) {
+  const std::size_t count = request.get_header_value_count("Content-Encoding");
+  for (std::size_t i = 0; i < count; ++i) {
+    std::string coding = request.get_header_value("Content-Encoding", i);
+    coding.erase(std::remove_if(coding.begin(), coding.end(), [](unsigned char c) { return std::isspace(c); }), coding.end());
+    std::transform(coding.begin(), coding.end(), coding.begin(), [](unsigned char c) { return std::tolower(c); });
+    if (coding.empty() || coding == "identity") continue;
+    return api::unsupported_media_type("request bodies are taken without a content coding (Content-Encoding: " + coding +
+                                           " is not accepted); send the body as it is",
+                                       {"identity"});
+  }
+  return std::nullopt;
 }
 
 // JSON text of a document. A request path may carry any bytes (httplib percent-decodes it, e.g. %FF),
@@ -185,11 +205,17 @@ class Routes {
               (type.empty() ? std::string("no Content-Type") : type) + "'",
           {"application/x-ndjson", "application/jsonl"}));
     }
+    // Each line carries its own settings; a query parameter (e.g. format=csv) would be ignored silently.
+    if (!request.params.empty()) {
+      throw ProblemError(api::invalid_parameter(request.params.begin()->first,
+                                                "POST /v1/fit/batch takes no query parameters; each line carries its "
+                                                "own model and options, and the answer is NDJSON"));
+    }
     auto state = std::make_shared<BatchState>();
     state->body = request.body;
-    split_lines(*state);
-    if (state->lines.size() > config_.max_batch_lines) {
-      throw ProblemError(api::payload_too_large("the batch has " + std::to_string(state->lines.size()) +
+    const std::size_t line_count = split_lines(*state, config_.max_batch_lines);
+    if (line_count > config_.max_batch_lines) {
+      throw ProblemError(api::payload_too_large("the batch has " + std::to_string(line_count) +
                                                 " requests; this service takes at most " +
                                                 std::to_string(config_.max_batch_lines) + " per batch"));
     }
@@ -218,9 +244,15 @@ class Routes {
       response.set_header("Retry-After", "1");
       return answer_early(response, api::service_unavailable("the service is shutting down"));
     }
+    // Beyond the queue: the 503 is sent by dispatch(), after httplib has read the body, so that the
+    // connection stays in step. Answered before its body, the body was read as the next requests on
+    // the kept-alive connection (measured: one 414 per 503 under load, and a request written inside
+    // a body was answered). A body that cannot be read within the limits gets its 503 at once.
     if (on_overflow_thread()) {
       response.set_header("Retry-After", "1");
-      return answer_early(response, api::service_unavailable("every worker is busy and the queue is full; retry shortly"));
+      response.set_header("Connection", "close");  // the client is to come back later, on a new connection
+      if (framing_problem(request) || content_coding_problem(request)) return answer_early(response, overloaded());
+      return httplib::Server::HandlerResponse::Unhandled;
     }
     ++state_.in_flight;
     request_counted = true;
@@ -232,20 +264,77 @@ class Routes {
       response.set_header("Access-Control-Max-Age", "600");
       return httplib::Server::HandlerResponse::Handled;
     }
-    // The body-size limit is enforced on Content-Length; a chunked body has none to check before it
-    // is read, so it is refused (RFC 9110, 411 Length Required) and the connection closed.
-    if (request.get_header_value("Transfer-Encoding").find("chunked") != std::string::npos) {
-      return answer_early(response, api::length_required());
+    if (const auto problem = framing_problem(request)) return answer_early(response, *problem);
+    if (const auto problem = content_coding_problem(request)) {
+      response.set_header("Accept-Encoding", "identity");  // RFC 9110 section 12.5.3
+      return answer_early(response, *problem);
     }
     return httplib::Server::HandlerResponse::Unhandled;
   }
 
+  // The request's framing, before its body is read (RFC 9112 section 6). The body-size limit is
+  // enforced on Content-Length; a transfer coding (chunked, in any spelling) has no length to check
+  // before the body is read, so it is refused (RFC 9110, 411 Length Required). A Content-Length that
+  // is not one decimal number is a 400 (RFC 9112 section 6.3), one over the limit a 413 now: reading
+  // (or waiting for) a body that is refused anyway would hold a worker until the read timeout. A
+  // request of a method whose body httplib would read up to the end of the connection must state its
+  // length. Header fields totalling more than kMaxHeaderBytes are a 431 (RFC 6585).
+  std::optional<Problem> framing_problem(const httplib::Request& request) const {
+    constexpr std::size_t kMaxHeaderBytes = 64 * 1024;
+    std::size_t header_bytes = 0;
+    for (const auto& [name, value] : request.headers) header_bytes += name.size() + value.size() + 4;
+    if (header_bytes > kMaxHeaderBytes) {
+      Problem problem = api::malformed_document("the header fields total " + std::to_string(header_bytes) +
+                                                " bytes; this service reads at most " + std::to_string(kMaxHeaderBytes));
+      problem.status = 431;
+      return problem;
+    }
+    if (request.has_header("Transfer-Encoding")) return api::length_required();
+    const std::size_t lengths = request.get_header_value_count("Content-Length");
+    if (lengths == 0) {
+      const bool body_expected = request.method == "POST" || request.method == "PUT" || request.method == "PATCH" ||
+                                 request.method == "DELETE" || request.method == "PRI";
+      if (!body_expected) return std::nullopt;
+      const Route* route = find_route(request.path);
+      if (route == nullptr) return api::not_found("no endpoint at " + request.path + "; see GET /openapi.yaml");
+      if (!takes_method(*route, request.method)) {
+        return api::method_not_allowed(request.path + " takes " + joined(route->methods, ", "), route->methods);
+      }
+      return api::length_required();
+    }
+    const std::string text = request.get_header_value("Content-Length");
+    std::uint64_t length = 0;
+    const auto [end, error] = std::from_chars(text.data(), text.data() + text.size(), length);
+    if (lengths > 1 || text.empty() || text.size() > 19 || error != std::errc() || end != text.data() + text.size() ||
+        text.find_first_not_of("0123456789") != std::string::npos) {
+      return api::malformed_document(lengths > 1 ? "the request has more than one Content-Length header"
+                                                 : "the Content-Length header is not a decimal number of bytes");
+    }
+    if (length > config_.max_body_bytes) {
+      return api::payload_too_large("the body is " + std::to_string(length) + " bytes (Content-Length); this service's limit is " +
+                                    std::to_string(config_.max_body_bytes) + " bytes");
+    }
+    return std::nullopt;
+  }
+
+  // HEAD is answered wherever GET is (RFC 9110 section 9.1: every general-purpose server supports
+  // both); httplib sends the GET answer's headers without its body.
+  static bool takes_method(const Route& route, const std::string& method) {
+    const std::string& asked = method == "HEAD" ? kGet : method;
+    return std::find(route.methods.begin(), route.methods.end(), asked) != route.methods.end();
+  }
+  static inline const std::string kGet = "GET";
+
   // Every request that reaches routing: path, method and key, then the route's handler.
   void dispatch(const httplib::Request& request, httplib::Response& response) {
+    if (on_overflow_thread()) {  // see before_routing(); Retry-After and Connection: close are set there
+      send_problem(response, overloaded());
+      return;
+    }
     const Route* route = find_route(request.path);
     if (route == nullptr) {
       send_problem(response, api::not_found("no endpoint at " + request.path + "; see GET /openapi.yaml"));
-    } else if (std::find(route->methods.begin(), route->methods.end(), request.method) == route->methods.end()) {
+    } else if (!takes_method(*route, request.method)) {
       send_problem(response, api::method_not_allowed(request.path + " takes " + joined(route->methods, ", "), route->methods));
     } else if (keys_.enabled() && request.path != "/v1/health" && !keys_.accepts(request.get_header_value("Authorization"))) {
       send_problem(response, api::unauthorized());
@@ -259,6 +348,12 @@ class Routes {
       response.set_header("Access-Control-Allow-Origin", *origin);
       response.set_header("Vary", "Origin");
     }
+    // A worker serves one connection at a time, for as long as it is kept alive (up to
+    // --keep-alive-max requests, and --keep-alive-timeout between them). While other connections
+    // wait for a worker, the client is asked to close this one, so that the waiting ones are served
+    // in turn: without it, 64 connections on 2 workers waited up to 100 requests of each connection
+    // ahead (bench/load_mixed.py: p99 4.8 s).
+    if (!on_overflow_thread() && connections_waiting()) response.set_header("Connection", "close");
   }
 
   // Statuses httplib sets itself (a body over the limit, a malformed request line ...) get a
@@ -316,17 +411,23 @@ class Routes {
   };
 
   // Non-blank lines with their 0-based line numbers.
-  static void split_lines(BatchState& state) {
-    std::size_t start = 0, index = 0;
+  // Returns how many there are; at most max_lines are indexed, so that a body of millions of tiny
+  // lines is refused without first building an index of them all (24 bytes a line: a 15 MB body of
+  // 5 million lines took 290 MB of peak memory to refuse).
+  static std::size_t split_lines(BatchState& state, std::size_t max_lines) {
+    std::size_t start = 0, index = 0, count = 0;
     const std::string_view body = state.body;
     while (start <= body.size()) {
       std::size_t end = body.find('\n', start);
       if (end == std::string_view::npos) end = body.size();
       std::string_view line = body.substr(start, end - start);
-      if (line.find_first_not_of(" \t\r") != std::string_view::npos) state.lines.push_back({index, start, line.size()});
+      if (line.find_first_not_of(" \t\r") != std::string_view::npos && ++count <= max_lines) {
+        state.lines.push_back({index, start, line.size()});
+      }
       start = end + 1;
       ++index;
     }
+    return count;
   }
 
   std::optional<std::string> cors_origin(const httplib::Request& request) const {
@@ -394,6 +495,8 @@ class Routes {
       throw ProblemError(api::invalid_parameter(request.params.begin()->first, "this endpoint takes no query parameters"));
     }
   }
+
+  static Problem overloaded() { return api::service_unavailable("every worker is busy and the queue is full; retry shortly"); }
 
   // An answer before the body is read: the connection is closed after it, so that the unread body
   // is never taken for the next request.

@@ -1,5 +1,6 @@
 #include "api/fit_service.h"
 
+#include <algorithm>
 #include <charconv>
 #include <cmath>
 
@@ -269,6 +270,50 @@ ModelPoint outcome_curve(const FitOutcome& outcome, Convention convention, doubl
   return model_curve_point(*outcome.model_fit, model_parameters(outcome.model_fit->spec), convention, frequency_hz);
 }
 
+namespace {
+
+// A one-sigma error so small against the spectrum's values that the chi-square would overflow a double
+// (the largest |y| over it above 1e100; the residuals and the Jacobian's rows are scaled by 1/error)
+// leaves the fit without a meaning: it is refused with its pointer, instead of a 200 whose numbers
+// come from infinities. The ratio does not depend on the unit (y and y_error share it).
+void require_usable_errors(const SpectrumInput& spectrum) {
+  constexpr double kLargestValueOverError = 1e100;
+  if (spectrum.y_error.size() != spectrum.y.size()) return;  // prepare_spectrum says what is wrong
+  double largest = 0.0;
+  for (const double v : spectrum.y) {
+    if (std::isfinite(v)) largest = std::max(largest, std::abs(v));
+  }
+  for (std::size_t i = 0; i < spectrum.y_error.size(); ++i) {
+    const double error = spectrum.y_error[i];
+    if (error > 0.0 && std::isfinite(error) && !(largest / error <= kLargestValueOverError)) {
+      throw ProblemError(invalid_value("/spectrum/y_error/" + std::to_string(i),
+                                       "is too small against the spectrum's values (the largest |y| is more than 1e100 "
+                                       "times this error): the chi-square would overflow a double"));
+    }
+  }
+}
+
+// The same for band measurements (flux densities or magnitudes, upper limits too): an error more than
+// 1e100 times smaller than the largest |value| (or than 1, for values below 1) is refused at
+// /photometry/<i>/error; it made a 200 of 10.4 K from infinities.
+void require_usable_errors(const PhotometryInput& photometry) {
+  constexpr double kLargestValueOverError = 1e100;
+  double largest = 1.0;
+  for (const auto& m : photometry.measurements) {
+    if (std::isfinite(m.value)) largest = std::max(largest, std::abs(m.value));
+  }
+  for (std::size_t i = 0; i < photometry.measurements.size(); ++i) {
+    const std::optional<double>& error = photometry.measurements[i].error;
+    if (error && *error > 0.0 && std::isfinite(*error) && !(largest / *error <= kLargestValueOverError)) {
+      throw ProblemError(invalid_value("/photometry/" + std::to_string(i) + "/error",
+                                       "is too small against the measurements (more than 1e100 times smaller than "
+                                       "the largest value): the chi-square would overflow a double"));
+    }
+  }
+}
+
+}  // namespace
+
 FitOutcome fit_outcome(FitRequest request, const ServiceLimits& limits) {
   apply_limits(limits, request);
   FitOutcome out;
@@ -279,10 +324,12 @@ FitOutcome fit_outcome(FitRequest request, const ServiceLimits& limits) {
                           request.distance->error / request.distance->value};
     }
     if (request.photometry) {
-      out.photometry = prepare_photometry(request.photometry->input);
+      out.photometry = prepare_photometry(request.photometry->input);  // its own problems first
+      require_usable_errors(request.photometry->input);
       out.unit = parse_flux_density_unit(out.photometry->per_steradian ? "MJy/sr" : "Jy");
     } else {
-      out.spectrum = prepare_spectrum(request.spectrum);
+      out.spectrum = prepare_spectrum(request.spectrum);  // its own problems first
+      require_usable_errors(request.spectrum);
       out.unit = out.spectrum->y_unit;
     }
     if (request.plain()) {
@@ -317,7 +364,10 @@ FitOutcome spectrum_table_outcome(std::string_view text, const TableRequestOptio
   FitRequest request;
   request.spectrum = table_to_spectrum(table, options);
   try {
-    if (!extra_request_members.empty()) apply_request_members(extra_request_members.dump(), request);
+    // Query parameters are decoded bytes: not UTF-8 is replaced, and refused as a value (see parse_fit_request).
+    if (!extra_request_members.empty()) {
+      apply_request_members(extra_request_members.dump(-1, ' ', false, nlohmann::json::error_handler_t::replace), request);
+    }
     return fit_outcome(std::move(request), limits);
   } catch (ProblemError& e) {
     Problem& problem = e.problem();
@@ -419,7 +469,7 @@ FitOutcome fit_fits_outcome(std::string_view bytes, const TableParameters& param
     }
     FitRequest request;
     request.spectrum = *content.spectrum;
-    apply_request_members(settings.extra.dump(), request);
+    apply_request_members(settings.extra.dump(-1, ' ', false, nlohmann::json::error_handler_t::replace), request);
     return fit_outcome(std::move(request), limits);
   });
   outcome.response["input"]["fits"] = content.notes;

@@ -2,7 +2,11 @@
 
 #include <algorithm>
 #include <charconv>
+#include <cerrno>
 #include <cmath>
+#include <cstdint>
+#include <cstdlib>
+#include <string>
 
 #include "api/problem.h"
 
@@ -119,8 +123,29 @@ simdjson::dom::parser& thread_parser() {
   return parser;
 }
 
-// The first number in the text that a double cannot hold, to name it in the problem.
-std::string first_unrepresentable_number(std::string_view text) {
+// RFC 8259 section 6: -?(0|[1-9][0-9]*)(.[0-9]+)?([eE][+-]?[0-9]+)?
+bool is_json_number(std::string_view t) {
+  std::size_t i = 0;
+  const auto digits = [&] {
+    const std::size_t start = i;
+    while (i < t.size() && t[i] >= '0' && t[i] <= '9') ++i;
+    return i > start;
+  };
+  if (i < t.size() && t[i] == '-') ++i;
+  if (i < t.size() && t[i] == '0') ++i;
+  else if (!digits()) return false;
+  if (i < t.size() && t[i] == '.' && (++i, !digits())) return false;
+  if (i < t.size() && (t[i] == 'e' || t[i] == 'E')) {
+    ++i;
+    if (i < t.size() && (t[i] == '+' || t[i] == '-')) ++i;
+    if (!digits()) return false;
+  }
+  return i == t.size();
+}
+
+// What is wrong with the first number of the text that simdjson refused (NUMBER_ERROR): not JSON's
+// number syntax (e.g. 01, 1., 1e, 0x10), beyond a double (1e999), or an integer of more than 64 bits.
+std::string first_bad_number(std::string_view text) {
   bool in_string = false;
   for (std::size_t i = 0; i < text.size(); ++i) {
     const char c = text[i];
@@ -132,15 +157,29 @@ std::string first_unrepresentable_number(std::string_view text) {
     if (c == '"') {
       in_string = true;
     } else if (c == '-' || (c >= '0' && c <= '9')) {
-      const std::size_t end = text.find_first_not_of("+-.0123456789eE", i);
+      const std::size_t end = text.find_first_of(" \t\r\n,]}:", i);
       const std::string_view token = text.substr(i, end == std::string_view::npos ? text.size() - i : end - i);
-      double value = 0.0;
-      const auto result = std::from_chars(token.data(), token.data() + token.size(), value);
-      if (result.ec == std::errc::result_out_of_range) return std::string(token.substr(0, 40));
+      const std::string shown(token.substr(0, 40));
+      if (!is_json_number(token)) return "the body holds '" + shown + "', which is not a JSON number (RFC 8259 section 6)";
+      errno = 0;
+      const double value = std::strtod(std::string(token).c_str(), nullptr);  // underflow to 0 or a subnormal is fine
+      if (errno == ERANGE && std::isinf(value)) {
+        return "the body holds a number a double cannot represent (beyond about 1.8e308): " + shown;
+      }
+      if (token.find_first_of(".eE") == std::string_view::npos) {
+        std::int64_t i64 = 0;
+        std::uint64_t u64 = 0;
+        const bool fits = token[0] == '-' ? std::from_chars(token.data(), token.data() + token.size(), i64).ec == std::errc()
+                                          : std::from_chars(token.data(), token.data() + token.size(), u64).ec == std::errc();
+        if (!fits) {
+          return "the body holds an integer of more than 64 bits: " + shown +
+                 " (write it with a fraction or an exponent, e.g. 1.5e30, to send it as a double)";
+        }
+      }
       i += token.size() - 1;
     }
   }
-  return "";
+  return "the body holds a number a double cannot represent (beyond about 1.8e308, or an integer of more than 64 bits)";
 }
 
 }  // namespace
@@ -161,9 +200,7 @@ element parse_text(std::string_view text) {
     if (error == simdjson::DEPTH_ERROR) {
       detail = "the JSON nests deeper than " + std::to_string(kMaxNestingDepth) + " levels";
     } else if (error == simdjson::NUMBER_ERROR) {
-      const std::string number = first_unrepresentable_number(text);
-      detail = "the body holds a number a double cannot represent" +
-               (number.empty() ? std::string(" (beyond about 1.8e308, or an integer of more than 64 bits)") : ": " + number);
+      detail = first_bad_number(text);
     } else if (error == simdjson::EMPTY) {
       detail = "the body is empty; send a fit request document";
     }

@@ -3,8 +3,10 @@
 #include <algorithm>
 #include <cctype>
 #include <charconv>
+#include <cstdlib>
 #include <nlohmann/json.hpp>
 #include <optional>
+#include <string>
 
 #include "api/problem.h"
 
@@ -45,6 +47,12 @@ std::optional<double> parse_number(std::string_view field) {
   if (!field.empty() && field.front() == '+') field.remove_prefix(1);
   double value = 0.0;
   const auto [end, error] = std::from_chars(field.data(), field.data() + field.size(), value);
+  if (error == std::errc::result_out_of_range && end == field.data() + field.size() && !field.empty()) {
+    // A decimal number beyond a double is a number still: rounded as IEEE 754 rounds it (as the JSON
+    // reader does), to +-0 below the smallest subnormal and to +-inf above the largest double, which
+    // is then refused as not finite with its line, like "inf".
+    return std::strtod(std::string(field).c_str(), nullptr);
+  }
   if (error != std::errc() || end != field.data() + field.size() || field.empty()) return std::nullopt;
   return value;
 }
@@ -63,7 +71,9 @@ std::optional<std::size_t> find_column(const Table& table, const std::string& wa
   const std::string parameter = std::string(role) == "y_error" ? "error_column" : std::string(role) + "_column";
   if (wanted.empty()) return std::nullopt;
   if (std::all_of(wanted.begin(), wanted.end(), [](char c) { return std::isdigit(static_cast<unsigned char>(c)); })) {
-    const std::size_t index = std::stoul(wanted);
+    // More digits than any table has columns is a column that does not exist; std::stoul would throw
+    // out_of_range past 2^64 (a 500; found by tests/fuzz/fuzz_table).
+    const std::size_t index = wanted.size() > 9 ? 0 : std::stoul(wanted);
     if (index < 1 || index > table.columns.size()) {
       throw ProblemError(invalid_parameter(parameter, std::string(role) + " column " + wanted + " does not exist; the table has " +
                                                std::to_string(table.columns.size()) + " columns"));
