@@ -526,7 +526,8 @@ void draw_legend(XmlWriter& out, const std::vector<LegendEntry>& entries, const 
   }
   std::size_t best = 0, best_count = std::numeric_limits<std::size_t>::max();
   for (std::size_t c = 0; c < places.size(); ++c) {
-    const auto [x0, y0] = places[c];
+    // Plain names, not a structured binding: clang before 16 cannot capture one in a lambda.
+    const double x0 = places[c][0], y0 = places[c][1];
     const auto count = static_cast<std::size_t>(std::count_if(occupied.begin(), occupied.end(), [&](const auto& p) {
       return p[0] >= x0 - 4 && p[0] <= x0 + width + 4 && p[1] >= y0 - 4 && p[1] <= y0 + height + 4;
     }));

@@ -154,7 +154,10 @@ FitRequest parse_fit_request(std::string_view text) {
 }
 
 FitRequest parse_fit_request(const nlohmann::json& document) {
-  const std::string text = document.dump();
+  // Documents built from tables and FITS files hold their text fields (band, unit) as read; a byte
+  // that is not UTF-8 is replaced (U+FFFD), so that the value is refused with its pointer (422)
+  // rather than the dump throwing (a 500). Found by tests/fuzz/fuzz_fits.
+  const std::string text = document.dump(-1, ' ', false, nlohmann::json::error_handler_t::replace);
   return parse_fit_request(std::string_view(text));
 }
 

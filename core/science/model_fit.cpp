@@ -197,7 +197,9 @@ void check_inside_domain(const ParameterInfo& info, double value, const std::str
 std::vector<FittedParameter> controlled_parameters(const std::vector<ParameterInfo>& infos,
                                                    const ModelFitOptions& options) {
   for (const auto& [name, control] : options.controls) {
-    const bool known = std::any_of(infos.begin(), infos.end(), [&](const ParameterInfo& p) { return p.name == name; });
+    // Through a reference: clang before 16 cannot capture a structured binding in a lambda.
+    const std::string& wanted = name;
+    const bool known = std::any_of(infos.begin(), infos.end(), [&](const ParameterInfo& p) { return p.name == wanted; });
     if (!known) {
       std::string names;
       for (const ParameterInfo& p : infos) names += (names.empty() ? "" : ", ") + p.name;

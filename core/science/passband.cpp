@@ -262,6 +262,11 @@ Passband make_passband(const PassbandInput& input, const std::string& field_pref
     const double x = input.wavelength[i];
     if (!std::isfinite(x) || !(x > 0.0)) throw InputError(wavelength_field, "must be positive and finite", i);
     band.wavelength_m[i] = constants::kSpeedOfLight / to_frequency(unit, x);
+    // A positive coordinate can still convert to no wavelength (2e-320 GHz is 1e316 m: infinity),
+    // which the band quadrature cannot take (found by tests/fuzz/fuzz_inline_passband).
+    if (!std::isfinite(band.wavelength_m[i]) || !(band.wavelength_m[i] > 0.0)) {
+      throw InputError(wavelength_field, "is outside the representable range", i);
+    }
     const double s = input.response[i];
     if (!std::isfinite(s) || s < 0.0) throw InputError(response_field, "must be finite and not negative", i);
     if (s > 0.0) ++positive;

@@ -57,7 +57,9 @@ struct SolveOutcome {
 // the functors here always succeed (non-finite results are caught after the solve), so GCC's
 // warning about that read does not apply.
 #pragma GCC diagnostic push
+#if !defined(__clang__)  // clang has no such warning, and warns about the unknown name
 #pragma GCC diagnostic ignored "-Wmaybe-uninitialized"
+#endif
 // Fast path for plain least squares: ceres::TinySolver, Ceres' Levenberg-Marquardt for small dense
 // problems, without the set-up cost of a ceres::Problem. It has no clock of its own, so it runs in
 // rounds of 20 iterations and the time budget is checked between rounds. `Problem` is a TinySolver

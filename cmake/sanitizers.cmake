@@ -1,0 +1,56 @@
+# Sanitizer builds of every target (libraries, server, CLI, benchmarks, tests):
+#
+#   -DPLANCKTON_SANITIZE=address,undefined   AddressSanitizer (with LeakSanitizer) and UBSan
+#   -DPLANCKTON_SANITIZE=thread              ThreadSanitizer
+#   -DPLANCKTON_SANITIZE=                    none (the default; the Release build is unchanged)
+#
+# scripts/test-sanitizers configures build-asan and build-tsan with these and runs the tests there,
+# with the run-time options that turn any report into a failed test. Debian's Ceres, glog, simdjson,
+# cfitsio and cpp-httplib stay uninstrumented; ASan and UBSan need nothing from them, and TSan sees
+# their locks through the intercepted pthread calls.
+set(PLANCKTON_SANITIZE "" CACHE STRING "Sanitizers for every target: empty, address,undefined or thread")
+set_property(CACHE PLANCKTON_SANITIZE PROPERTY STRINGS "" "address,undefined" "address" "undefined" "thread")
+
+if(PLANCKTON_SANITIZE STREQUAL "")
+  return()
+endif()
+
+string(REPLACE "," ";" planckton_sanitizers "${PLANCKTON_SANITIZE}")
+foreach(sanitizer IN LISTS planckton_sanitizers)
+  if(NOT sanitizer MATCHES "^(address|undefined|thread)$")
+    message(FATAL_ERROR "PLANCKTON_SANITIZE: unknown sanitizer '${sanitizer}' (accepted: address, undefined, thread)")
+  endif()
+endforeach()
+# GCC refuses the combination at link time; say so at configure time instead.
+if("thread" IN_LIST planckton_sanitizers AND "address" IN_LIST planckton_sanitizers)
+  message(FATAL_ERROR "PLANCKTON_SANITIZE: thread cannot be combined with address (use two build directories)")
+endif()
+
+set(planckton_sanitize_flags -fsanitize=${PLANCKTON_SANITIZE})
+if("undefined" IN_LIST planckton_sanitizers)
+  # GCC leaves float-cast-overflow out of -fsanitize=undefined; a double out of an integer's range
+  # converted to it (a count or index read from a document, say) is undefined behaviour all the same.
+  list(APPEND planckton_sanitize_flags -fsanitize=float-cast-overflow)
+endif()
+
+# -g and frame pointers give reports with file:line stacks. -O2 (placed after the build type's -O
+# level, so it wins) and not -O1: at -O1 GCC leaves Eigen's small packet functions (pexp, pldexp) and
+# expression loops out of line, and the instrumented model kernels ran 11 times slower than Release,
+# which put bench.coverage_small past its timeout and the fits past their time budgets.
+add_compile_options(${planckton_sanitize_flags} -fno-omit-frame-pointer -g -O2)
+add_link_options(${planckton_sanitize_flags})
+
+if("undefined" IN_LIST planckton_sanitizers)
+  # Every UBSan finding ends the process instead of printing and carrying on, so that it fails the
+  # test that provoked it whatever that test checks.
+  add_compile_options(-fno-sanitize-recover=all)
+endif()
+if("address" IN_LIST planckton_sanitizers)
+  # libstdc++'s own precondition checks (operator[] in range, front() of a non-empty container):
+  # they catch an index past size() that is still inside a vector's capacity, which ASan cannot see.
+  # (Not _GLIBCXX_SANITIZE_VECTOR: Ceres fills our vectors from uninstrumented code, which would make
+  # its annotations wrong.)
+  add_compile_definitions(_GLIBCXX_ASSERTIONS)
+endif()
+
+message(STATUS "planckton: sanitizers ${PLANCKTON_SANITIZE} (-O2 -g)")
