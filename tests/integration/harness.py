@@ -5,7 +5,9 @@
   openapi/openapi.yaml does not exist) are printed as SKIP and counted as not run, never as passed.
 - Server: starts the real planckton-server on an ephemeral loopback port (--bind 127.0.0.1
   --port 0), reads the first stderr line (the "listening" event) for the port, keeps reading stderr
-  in a thread (access-log lines) and stops it with SIGTERM, checking exit code 0.
+  in a thread (access-log lines) and stops it with SIGTERM, checking exit code 0. A sanitizer
+  report on its stderr (a build with PLANCKTON_SANITIZE, scripts/test-sanitizers) is a failed check
+  with the report's first lines, even when the server otherwise answers right.
 - HTTP helpers: every request goes to 127.0.0.1 only, never through a proxy, always with a timeout.
 - OpenAPI: validates documents against openapi/openapi.yaml (JSON Schema Draft 2020-12 with
   $ref resolved inside the OpenAPI document, i.e. into #/components/schemas).
@@ -31,6 +33,12 @@ START_TIMEOUT = 20    # seconds to wait for the "listening" line
 STOP_TIMEOUT = 60     # seconds to wait for the exit after SIGTERM
 
 PROBLEM_TYPE = "application/problem+json"
+
+# The headline each sanitizer runtime prints at the start of a report (ASan, LeakSanitizer, UBSan,
+# TSan). Reports are not JSON, so events() would pass over them without a word.
+SANITIZER_MARKERS = ("ERROR: AddressSanitizer", "ERROR: LeakSanitizer", "runtime error:",
+                     "WARNING: ThreadSanitizer")
+SANITIZER_REPORT_LINES = 25  # lines kept from each report: the headline and the top of its stacks
 
 
 # ---- command line ----------------------------------------------------------------------------
@@ -86,6 +94,7 @@ class Checks:
         print(f"NOTE  {text}", flush=True)
 
     def finish(self):
+        Server.check_sanitizer_reports(self)
         if self.skipped:
             print(f"NOTE  {self.skipped} check(s) not run (listed as SKIP above; neither passed nor failed)",
                   flush=True)
@@ -123,6 +132,7 @@ def clean_environment(extra=None):
 
 class Server:
     _running = []
+    _started = []  # every server started by this script, for the sanitizer check in Checks.finish()
 
     def __init__(self, binary, args=(), env=None, name="server"):
         self.binary = binary
@@ -135,6 +145,10 @@ class Server:
         self.lines = []          # raw stderr lines after the first (str)
         self._lines_lock = threading.Lock()
         self._first = queue.Queue()
+        self._reader = None
+        self.sanitizer_reports = []  # each a list of stderr lines, from the headline on
+        self._collecting = False
+        self._reports_checked = 0
         self.stop_code = None
 
     # -- start / stop
@@ -149,7 +163,9 @@ class Server:
             [self.binary, "--bind", "127.0.0.1", "--port", "0", *self.args],
             stdin=subprocess.DEVNULL, stdout=subprocess.DEVNULL, stderr=subprocess.PIPE, env=self.env)
         Server._running.append(self)
-        threading.Thread(target=self._read_stderr, daemon=True).start()
+        Server._started.append(self)
+        self._reader = threading.Thread(target=self._read_stderr, daemon=True)
+        self._reader.start()
         first = None
         try:
             first = self._first.get(timeout=START_TIMEOUT)
@@ -179,6 +195,7 @@ class Server:
         first = True
         for raw in iter(self.process.stderr.readline, b""):
             text = raw.decode("utf-8", errors="replace").rstrip("\r\n")
+            self._collect_sanitizer_report(text)
             if first:
                 self._first.put(text)
                 first = False
@@ -187,6 +204,37 @@ class Server:
                 self.lines.append(text)
         if first:
             self._first.put(None)
+
+    def _collect_sanitizer_report(self, text):
+        """Called by the reader thread for every stderr line, the first included. A JSON log line
+        is never a report (its detail may quote anything) and ends the one being collected; a
+        report's headline starts a new one."""
+        is_json = text.lstrip().startswith("{")
+        with self._lines_lock:
+            if not is_json and any(marker in text for marker in SANITIZER_MARKERS):
+                self.sanitizer_reports.append([text])
+                self._collecting = True
+            elif is_json:
+                self._collecting = False
+            elif self._collecting and len(self.sanitizer_reports[-1]) < SANITIZER_REPORT_LINES:
+                self.sanitizer_reports[-1].append(text)
+
+    def _check_sanitizer_reports(self, checks):
+        """One failed check per report not yet checked (none when there was no report)."""
+        if self._reader is not None and self.process is not None and self.process.poll() is not None:
+            self._reader.join(timeout=10)  # the process is gone: read its last lines (the leak report)
+        with self._lines_lock:
+            reports = self.sanitizer_reports[self._reports_checked:]
+            self._reports_checked = len(self.sanitizer_reports)
+        for report in reports:
+            for line in report:
+                checks.note(f"{self.name} stderr: {line}")
+            checks.check(f"{self.name}: no sanitizer report on stderr", False, " | ".join(report[:6]))
+
+    @classmethod
+    def check_sanitizer_reports(cls, checks):
+        for server in cls._started:
+            server._check_sanitizer_reports(checks)
 
     def send_signal(self, sig):
         if self.process and self.process.poll() is None:
@@ -215,6 +263,7 @@ class Server:
             stopped = any(d.get("event") == "stopped" for d in self.events())
             checks.check(f"{self.name}: writes the 'stopped' event before exiting", stopped,
                          "" if stopped else f"last stderr lines: {self.lines[-3:]}")
+            self._check_sanitizer_reports(checks)
         return code
 
     def kill(self):
