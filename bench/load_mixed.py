@@ -153,14 +153,7 @@ def main():
     print("server access log, all runs: %s" % server.statuses())
     if server.other_lines:
         print("server stderr, other lines: %s" % server.other_lines)
-    if not alive:
-        problems.append("the server died during the load")
-    if code != 0:
-        problems.append("the server exited %s after SIGTERM" % code)
-    for problem in problems:
-        print("problem: " + problem, file=sys.stderr)
-    print("verdict: %s" % ("PASS" if not problems else "FAIL"))
-    return 1 if problems else 0
+    return ls.verdict(problems, alive, code)
 
 
 if __name__ == "__main__":

@@ -18,6 +18,7 @@ import random
 import re
 import signal
 import subprocess
+import sys
 import tempfile
 import threading
 import time
@@ -298,3 +299,15 @@ def fmt_ms(us):
 
 def temporary_directory():
     return tempfile.TemporaryDirectory(prefix="planckton-load-")
+
+
+def verdict(problems, alive, code):
+    """Adds the server's own failures to problems, prints them and the verdict; the exit code."""
+    if not alive:
+        problems.append("the server died during the load")
+    if code != 0:
+        problems.append("the server exited %s after SIGTERM" % code)
+    for problem in problems:
+        print("problem: " + problem, file=sys.stderr)
+    print("verdict: %s" % ("PASS" if not problems else "FAIL"))
+    return 1 if problems else 0

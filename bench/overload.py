@@ -261,17 +261,10 @@ def main():
             server.kill()
         return 1
     print("server access log: %s" % server.statuses())
-    if not alive:
-        problems.append("the server died")
-    if code != 0:
-        problems.append("the server exited %s after SIGTERM" % code)
     bad = {k: v for k, v in server.statuses().items() if k not in ("200", "503")}
     if bad:
         problems.append("the server logged %s" % bad)
-    for problem in problems:
-        print("problem: " + problem, file=sys.stderr)
-    print("verdict: %s" % ("PASS" if not problems else "FAIL"))
-    return 1 if problems else 0
+    return ls.verdict(problems, alive, code)
 
 
 if __name__ == "__main__":

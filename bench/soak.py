@@ -151,14 +151,7 @@ def main():
         problems.append("socket errors: %s" % wrk["errors"])
     if {k for k in server.statuses() if k != "200"}:
         problems.append("the server logged %s" % server.statuses())
-    if not alive:
-        problems.append("the server died")
-    if code != 0:
-        problems.append("the server exited %s after SIGTERM" % code)
-    for problem in problems:
-        print("problem: " + problem, file=sys.stderr)
-    print("verdict: %s" % ("PASS" if not problems else "FAIL"))
-    return 1 if problems else 0
+    return ls.verdict(problems, alive, code)
 
 
 if __name__ == "__main__":
