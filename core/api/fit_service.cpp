@@ -83,7 +83,10 @@ nlohmann::json exclude_range(const std::string& text) {
 nlohmann::json distance_member(const std::string& text) {
   const auto space = text.find_first_of(" \t");
   const std::string value = text.substr(0, space);
-  const std::string unit = space == std::string::npos ? "pc" : text.substr(text.find_first_not_of(" \t", space));
+  // "5 " (blanks but no unit) takes the default unit like "5"; substr at npos threw out_of_range (a
+  // 500; found by tests/fuzz/fuzz_table).
+  const auto unit_start = space == std::string::npos ? std::string::npos : text.find_first_not_of(" \t", space);
+  const std::string unit = unit_start == std::string::npos ? "pc" : text.substr(unit_start);
   return {{"value", parameter_number("distance", value)}, {"unit", unit}};
 }
 

@@ -122,4 +122,16 @@ TEST(FuzzRegressions, PhotometryTableBandThatIsNotUtf8IsAnUnknownBandOnItsLine) 
   EXPECT_NE(problem.detail.find("not a shipped band"), std::string::npos) << problem.detail;
 }
 
+// A distance with blanks after the number and no unit: substr at npos threw out_of_range (a 500).
+// Now it takes the default unit, parsec, as "5" does (found by tests/fuzz/fuzz_table in CI).
+TEST(FuzzRegressions, TableDistanceWithTrailingBlanksTakesTheDefaultUnit) {
+  const std::string body = "x,y\n400,1e-12\n500,1.2e-12\n600,1.1e-12\n700,0.9e-12\n";
+  const planckton::api::TableParameters with_blank = {{"x_unit", "nm"}, {"y_unit", "W/m2/nm"}, {"distance", "5 \t"}};
+  const planckton::api::TableParameters without = {{"x_unit", "nm"}, {"y_unit", "W/m2/nm"}, {"distance", "5"}};
+  nlohmann::ordered_json a, b;
+  EXPECT_NO_THROW(a = planckton::api::fit_table_text(body, with_blank));
+  EXPECT_NO_THROW(b = planckton::api::fit_table_text(body, without));
+  EXPECT_EQ(a.dump(), b.dump());
+}
+
 }  // namespace
