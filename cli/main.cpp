@@ -166,7 +166,8 @@ int main(int argc, char** argv) {
       }
       response = outcome.response;
     }
-    std::cout << (args.compact ? response.dump() : response.dump(2)) << '\n';
+    // replace: a document never fails to print over a byte that is not UTF-8 (the readers refuse them).
+    std::cout << response.dump(args.compact ? -1 : 2, ' ', false, nlohmann::ordered_json::error_handler_t::replace) << '\n';
     return 0;
   } catch (const planckton::api::ProblemError& e) {
     std::cerr << "planckton: " << e.problem().one_line() << '\n';

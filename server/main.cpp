@@ -21,7 +21,9 @@
 
 namespace {
 
-void log_line(const nlohmann::ordered_json& line) { std::cerr << line.dump() << std::endl; }
+void log_line(const nlohmann::ordered_json& line) {
+  std::cerr << line.dump(-1, ' ', false, nlohmann::ordered_json::error_handler_t::replace) << std::endl;
+}
 
 constexpr int kListenBacklog = 1024;  // the kernel caps it at net.core.somaxconn (4096 on Linux 5.4+)
 
