@@ -34,6 +34,14 @@ STOP_TIMEOUT = 60     # seconds to wait for the exit after SIGTERM
 
 PROBLEM_TYPE = "application/problem+json"
 
+# The sanitizers of the server under test, as scripts/test-sanitizers exports them ("" in the Release
+# build; "address,undefined" or "thread").
+SANITIZERS = os.environ.get("PLANCKTON_SANITIZE", "")
+# How many times slower the instrumented server runs (cmake/sanitizers.cmake scales the ctest
+# timeouts by the same factors): the server budgets a test relies on for a fit to finish are scaled
+# by it, never the bounds a test checks an early answer against.
+SLOWDOWN = 5 if "thread" in SANITIZERS else 3 if SANITIZERS else 1
+
 # The headline each sanitizer runtime prints at the start of a report (ASan, LeakSanitizer, UBSan,
 # TSan). Reports are not JSON, so events() would pass over them without a word.
 SANITIZER_MARKERS = ("ERROR: AddressSanitizer", "ERROR: LeakSanitizer", "runtime error:",

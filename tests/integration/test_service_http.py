@@ -509,7 +509,7 @@ def cut_off(label, r, elapsed, bound):
 
 
 def time_budget():
-    server = Server(args.server, name="server (time budget)")
+    server = Server(args.server, ["--time-budget", str(10 * harness.SLOWDOWN)], name="server (time budget)")
     if server.start(checks):
         body = big_spectrum(time_budget=0.001)
         t0 = time.monotonic()
@@ -545,7 +545,8 @@ def shutdown():
         doc["options"] = {"loss": {"kind": "cauchy", "scale": 2.0}}
         lines.append(harness.compact({"id": f"slow-{i}", **doc}))
     body = ("\n".join(lines) + "\n").encode()
-    server = Server(args.server, ["--max-body-bytes", str(4 * len(body))], name="server (shutdown)")
+    server = Server(args.server, ["--max-body-bytes", str(4 * len(body)), "--drain-timeout", str(60 * harness.SLOWDOWN)],
+                    name="server (shutdown)")
     if not server.start(checks):
         return
     checks.note(f"shutdown batch: {n_lines} lines of {points} points with a Cauchy loss, {len(body)} bytes")
@@ -562,7 +563,7 @@ def shutdown():
     def try_new_connection():
         # Until the batch ends the listener stays open and answers 503 with Retry-After; then it
         # closes. How long that takes depends on the machine, so probe until the server is gone.
-        deadline = time.monotonic() + 150
+        deadline = time.monotonic() + 150 * harness.SLOWDOWN
         while time.monotonic() < deadline and "result" not in refused:
             probe = fresh_http("GET", server, "/v1/health", timeout=2)
             if not is_response(probe):
@@ -574,11 +575,11 @@ def shutdown():
             time.sleep(0.2)
 
     prober = None
-    deadline = time.monotonic() + 180
+    deadline = time.monotonic() + 180 * harness.SLOWDOWN
     try:
         for raw in r.iter_lines(chunk_size=64):
             if time.monotonic() > deadline or len(received) > 10 * n_lines:
-                error = f"stopped reading after {len(received)} lines / 180 s"
+                error = f"stopped reading after {len(received)} lines / {180 * harness.SLOWDOWN} s"
                 r.close()
                 break
             if not raw:
