@@ -39,7 +39,7 @@ PROBLEM_TYPE = "application/problem+json"
 SANITIZERS = os.environ.get("PLANCKTON_SANITIZE", "")
 # How many times slower the instrumented server runs (cmake/sanitizers.cmake scales the ctest
 # timeouts by the same factors): the server budgets a test relies on for a fit to finish are scaled
-# by it, never the bounds a test checks an early answer against.
+# by it (the server's --time-budget in Server), never the bounds a test checks an early answer against.
 SLOWDOWN = 5 if "thread" in SANITIZERS else 3 if SANITIZERS else 1
 
 # The headline each sanitizer runtime prints at the start of a report (ASan, LeakSanitizer, UBSan,
@@ -145,6 +145,10 @@ class Server:
     def __init__(self, binary, args=(), env=None, name="server"):
         self.binary = binary
         self.args = list(args)
+        if SLOWDOWN > 1 and "--time-budget" not in self.args:
+            # The default budget (10 s) scaled, so that an instrumented fit or posterior finishes as
+            # in the Release build; a test that sets --time-budget keeps its own.
+            self.args += ["--time-budget", str(10 * SLOWDOWN)]
         self.env = clean_environment(env)
         self.name = name
         self.process = None

@@ -509,7 +509,7 @@ def cut_off(label, r, elapsed, bound):
 
 
 def time_budget():
-    server = Server(args.server, ["--time-budget", str(10 * harness.SLOWDOWN)], name="server (time budget)")
+    server = Server(args.server, name="server (time budget)")
     if server.start(checks):
         body = big_spectrum(time_budget=0.001)
         t0 = time.monotonic()
