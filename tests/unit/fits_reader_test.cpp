@@ -25,7 +25,6 @@
 #include <sstream>
 #include <stdexcept>
 #include <string>
-#include <thread>
 #include <vector>
 
 #include <nlohmann/json.hpp>
@@ -1218,32 +1217,6 @@ TEST(FitsReader, SampleFilesHoldTheirCsvData) {
   const FitsContent sed = read_fits(file_text(dir / "tms-0203-catalogue-sed.fits"), {});
   ASSERT_TRUE(sed.photometry);
   EXPECT_EQ(*sed.photometry, planckton::api::read_photometry_table(file_text(dir / "tms-0203-catalogue-sed.csv")).measurements);
-}
-
-// The service reads bodies on several worker threads; Debian's cfitsio is built reentrant
-// (fits_is_reentrant), and each read has its own memory file.
-TEST(FitsReader, ConcurrentReadsAgree) {
-  ASSERT_TRUE(fits_is_reentrant());
-  const std::string image = spectrum_with_errors("IVAR", ramp(4, 1.0, 1.0));
-  const std::string broken = image.substr(0, 3000);
-  const std::vector<double> expected = read_fits(image, {}).spectrum->y_error;
-  std::vector<std::thread> threads;
-  std::vector<int> failures(4, 0);
-  for (std::size_t t = 0; t < failures.size(); ++t) {
-    threads.emplace_back([&, t] {
-      for (int i = 0; i < 200; ++i) {
-        try {
-          if (read_fits(image, {}).spectrum->y_error != expected) ++failures[t];
-          read_fits(broken, {});
-          ++failures[t];
-        } catch (const ProblemError& e) {
-          if (e.problem().status != 400) ++failures[t];
-        }
-      }
-    });
-  }
-  for (std::thread& thread : threads) thread.join();
-  EXPECT_EQ(failures, std::vector<int>(4, 0));
 }
 
 // Seeded random damage to valid files (a few bytes anywhere, headers included): each read ends in a
