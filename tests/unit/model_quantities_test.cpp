@@ -21,7 +21,6 @@ namespace {
 
 using testing::RelativelyNear;
 using testing::simulate_spectrum;
-constexpr double kC = constants::kSpeedOfLight;
 
 const PeakEstimate& peak(const std::vector<PeakEstimate>& peaks, const std::string& id) {
   for (const PeakEstimate& p : peaks) {
