@@ -6,8 +6,8 @@
 #   -DPLANCKTON_SANITIZE=                    none (the default; the Release build is unchanged)
 #
 # GCC or clang. scripts/test-fuzz and scripts/test-sanitizers configure build-asan and build-tsan with
-# clang-14 (it compiles these builds about twice as fast as GCC 12, and libFuzzer is clang's), and run
-# the tests there with the run-time options that turn any report into a failed test. Debian's Ceres,
+# clang-14 (libFuzzer is clang's, so the fuzz targets and the ASan test suite share one build), and
+# run the tests there with the run-time options that turn any report into a failed test. Debian's Ceres,
 # glog, simdjson, cfitsio and cpp-httplib stay uninstrumented; ASan and UBSan need nothing from them,
 # and TSan sees their locks through the intercepted pthread calls.
 set(PLANCKTON_SANITIZE "" CACHE STRING "Sanitizers for every target: empty, address,undefined or thread")
